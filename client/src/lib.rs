@@ -1,0 +1,1 @@
+//! ratewell client library (being written).
