@@ -1,0 +1,143 @@
+//! Every client setting in one place, with named defaults.
+
+use crate::dataset::DatasetRef;
+use crate::error::ClientError;
+use crate::retry::RetryPolicy;
+use std::time::Duration;
+
+/// The address tried when none is given.
+pub const DEFAULT_ENDPOINT: &str = "http://127.0.0.1:50051";
+/// Per-attempt time budget, sent to the server as grpc-timeout and enforced locally.
+pub const DEFAULT_CALL_TIMEOUT: Duration = Duration::from_secs(10);
+/// Time allowed to open a connection.
+pub const DEFAULT_CONNECT_TIMEOUT: Duration = Duration::from_secs(3);
+/// Largest message sent or received, bytes: 64 MiB, the server's limit (tonic's own default
+/// of 4 MiB is too small for large table sets and lookups).
+pub const DEFAULT_MAX_MESSAGE_BYTES: usize = 64 * 1024 * 1024;
+/// HTTP/2 keep-alive ping interval, so a dead server is noticed between calls.
+pub const DEFAULT_KEEPALIVE_INTERVAL: Duration = Duration::from_secs(30);
+
+/// Client settings. Start from [`ClientConfig::new`] and change what you need.
+#[derive(Debug, Clone)]
+pub struct ClientConfig {
+    /// Server addresses ("http://host:port"; "host:port" gets "http://"). With several, the
+    /// client uses one at a time and moves to the next on UNAVAILABLE or RESOURCE_EXHAUSTED.
+    pub endpoints: Vec<String>,
+    /// Start on a randomly chosen endpoint, so many jobs spread over the servers.
+    pub spread_start: bool,
+    /// Per-attempt time budget.
+    pub call_timeout: Duration,
+    /// Time allowed to open a connection.
+    pub connect_timeout: Duration,
+    /// Retries of idempotent calls (attempts, backoff, overall deadline).
+    pub retry: RetryPolicy,
+    /// Largest message sent or received, bytes.
+    pub max_message_bytes: usize,
+    /// HTTP/2 keep-alive ping interval (`None`: no pings).
+    pub keepalive_interval: Option<Duration>,
+    /// Dataset used by calls that need one (id, optional version, optional pinned hash).
+    pub dataset: Option<DatasetRef>,
+    /// Temperatures per message in [`crate::Client::lookup_rates_stream`] when the caller
+    /// passes 0.
+    pub stream_temperatures_per_message: usize,
+}
+
+impl ClientConfig {
+    /// Defaults for one endpoint.
+    pub fn new(endpoint: impl Into<String>) -> Self {
+        Self {
+            endpoints: vec![endpoint.into()],
+            spread_start: true,
+            call_timeout: DEFAULT_CALL_TIMEOUT,
+            connect_timeout: DEFAULT_CONNECT_TIMEOUT,
+            retry: RetryPolicy::default(),
+            max_message_bytes: DEFAULT_MAX_MESSAGE_BYTES,
+            keepalive_interval: Some(DEFAULT_KEEPALIVE_INTERVAL),
+            dataset: None,
+            stream_temperatures_per_message: 4096,
+        }
+    }
+
+    /// Several endpoints, tried in turn (failover).
+    pub fn with_endpoints(mut self, endpoints: Vec<String>) -> Self {
+        self.endpoints = endpoints;
+        self
+    }
+
+    /// The dataset for calls that need one.
+    pub fn with_dataset(mut self, dataset: DatasetRef) -> Self {
+        self.dataset = Some(dataset);
+        self
+    }
+
+    /// Another per-attempt time budget.
+    pub fn with_call_timeout(mut self, timeout: Duration) -> Self {
+        self.call_timeout = timeout;
+        self
+    }
+
+    /// Another retry policy.
+    pub fn with_retry(mut self, retry: RetryPolicy) -> Self {
+        self.retry = retry;
+        self
+    }
+
+    /// Checks every field, naming a bad one.
+    pub fn validate(&self) -> Result<(), ClientError> {
+        if self.endpoints.is_empty() {
+            return Err(ClientError::invalid(
+                "endpoints",
+                "[] (empty)",
+                "at least one server address is needed",
+            ));
+        }
+        for (field, d) in [
+            ("call_timeout", self.call_timeout),
+            ("connect_timeout", self.connect_timeout),
+        ] {
+            if d.is_zero() {
+                return Err(ClientError::invalid(field, "0 s", "must be > 0"));
+            }
+        }
+        if self.max_message_bytes < 1024 {
+            return Err(ClientError::invalid(
+                "max_message_bytes",
+                self.max_message_bytes,
+                "must be >= 1024",
+            ));
+        }
+        if self.stream_temperatures_per_message == 0 {
+            return Err(ClientError::invalid(
+                "stream_temperatures_per_message",
+                0,
+                "must be >= 1",
+            ));
+        }
+        self.retry.validate()
+    }
+}
+
+impl Default for ClientConfig {
+    fn default() -> Self {
+        Self::new(DEFAULT_ENDPOINT)
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn defaults_are_valid_and_bad_fields_are_named() {
+        assert!(ClientConfig::default().validate().is_ok());
+        let c = ClientConfig::default().with_endpoints(vec![]);
+        assert!(c.validate().unwrap_err().to_string().starts_with("endpoints = "));
+        let c = ClientConfig::default().with_call_timeout(Duration::ZERO);
+        assert_eq!(
+            c.validate().unwrap_err().to_string(),
+            "call_timeout = 0 s: must be > 0"
+        );
+        // 64 MiB, the size the server is configured with (CONVENTIONS.md, limits).
+        assert_eq!(ClientConfig::default().max_message_bytes, 67_108_864);
+    }
+}

@@ -1,0 +1,161 @@
+//! The client's one error enum. Messages name the field, the value and what was allowed.
+
+use ratewell_proto::rule::RuleError;
+use std::time::Duration;
+
+/// Everything that can go wrong in a client call or a local evaluation.
+#[derive(Debug, thiserror::Error)]
+pub enum ClientError {
+    /// The server answered with a gRPC status other than OK.
+    #[error("{operation} at {endpoint}: server answered {code:?}: {message}")]
+    Status {
+        /// Which call failed (e.g. "LookupRates").
+        operation: &'static str,
+        /// The endpoint that answered.
+        endpoint: String,
+        /// The gRPC status code.
+        code: tonic::Code,
+        /// The server's message.
+        message: String,
+    },
+    /// A response came from a dataset whose content hash differs from the pinned one.
+    /// The answer is discarded.
+    #[error(
+        "dataset {dataset}: content hash {got} differs from the pinned {expected}; answer refused"
+    )]
+    HashMismatch {
+        /// The pinned content hash.
+        expected: String,
+        /// The content hash the response carried.
+        got: String,
+        /// "id@version" of the dataset that answered.
+        dataset: String,
+    },
+    /// The server itself refused the request because the pinned hash differs (FAILED_PRECONDITION).
+    #[error("dataset {dataset}: server refused the pinned content hash {expected}: {message}")]
+    PinRefused {
+        /// The pinned content hash.
+        expected: String,
+        /// The dataset asked for.
+        dataset: String,
+        /// The server's message.
+        message: String,
+    },
+    /// A response named a dataset other than the one asked for, or lacked its stamp, or its
+    /// stamp changed between the parts of one chunked answer.
+    #[error("{operation}: {message}")]
+    StampMismatch {
+        /// Which call.
+        operation: &'static str,
+        /// What differed.
+        message: String,
+    },
+    /// A response that breaks the contract (wrong array lengths, missing fields).
+    #[error("{operation}: malformed response: {message}")]
+    Malformed {
+        /// Which call.
+        operation: &'static str,
+        /// What is wrong.
+        message: String,
+    },
+    /// A call did not finish within its time budget (enforced on the client side too).
+    #[error("{operation}: no answer within {after:?}")]
+    Timeout {
+        /// Which call.
+        operation: &'static str,
+        /// The time budget that ran out.
+        after: Duration,
+    },
+    /// An endpoint could not be set up (bad address, TLS, connection failure).
+    #[error("endpoint {endpoint}: {message}")]
+    Transport {
+        /// The endpoint address.
+        endpoint: String,
+        /// What went wrong.
+        message: String,
+    },
+    /// A bad argument, caught before anything was sent.
+    #[error("{field} = {value}: {allowed}")]
+    InvalidArgument {
+        /// The argument's name (with index for arrays, e.g. "temperature[3]").
+        field: String,
+        /// The offending value, with its unit where it has one.
+        value: String,
+        /// What is allowed.
+        allowed: String,
+    },
+    /// A transition that the fetched tables do not hold.
+    #[error("species {species}: no rate table for transition {upper}-{lower} in dataset {dataset}")]
+    UnknownTransition {
+        /// The species.
+        species: String,
+        /// Upper level index (1-based).
+        upper: u32,
+        /// Lower level index (1-based).
+        lower: u32,
+        /// "id@version" of the tables' dataset.
+        dataset: String,
+    },
+    /// The evaluation rule refused (outside the grid, bad table, bad temperature).
+    #[error(transparent)]
+    Rule(#[from] RuleError),
+    /// No tokio runtime is running where one is needed, or a blocking call was made inside one.
+    #[error("runtime: {0}")]
+    Runtime(String),
+}
+
+impl ClientError {
+    /// A [`ClientError::InvalidArgument`] from its three parts.
+    pub fn invalid(
+        field: impl Into<String>,
+        value: impl std::fmt::Display,
+        allowed: impl Into<String>,
+    ) -> Self {
+        ClientError::InvalidArgument {
+            field: field.into(),
+            value: value.to_string(),
+            allowed: allowed.into(),
+        }
+    }
+
+    /// The gRPC status code when the server answered with one.
+    pub fn code(&self) -> Option<tonic::Code> {
+        match self {
+            ClientError::Status { code, .. } => Some(*code),
+            _ => None,
+        }
+    }
+
+    /// A status from a call, kept with the call's name.
+    pub(crate) fn from_status(
+        operation: &'static str,
+        endpoint: &str,
+        status: &tonic::Status,
+    ) -> Self {
+        ClientError::Status {
+            operation,
+            endpoint: endpoint.to_string(),
+            code: status.code(),
+            message: status.message().to_string(),
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn messages_name_field_value_and_range() {
+        // Message shape required by the project rules: "temperature[3] = -5 K: must be > 0".
+        let e = ClientError::invalid("temperature[3]", "-5 K", "must be finite and > 0");
+        assert_eq!(e.to_string(), "temperature[3] = -5 K: must be finite and > 0");
+        let e = ClientError::HashMismatch {
+            expected: "aa".into(),
+            got: "bb".into(),
+            dataset: "demo@1.0.0".into(),
+        };
+        let s = e.to_string();
+        assert!(s.contains("demo@1.0.0") && s.contains("aa") && s.contains("bb"), "{s}");
+    }
+}

@@ -1,0 +1,41 @@
+//! Admin service: load or reload a dataset folder; a failure leaves the old data serving.
+
+use super::AppState;
+use super::convert::stamp;
+use ratewell_proto::pb::{self, admin_server::Admin};
+use tonic::{Request, Response, Status};
+
+/// Handler of the Admin service.
+#[derive(Clone)]
+pub struct AdminHandler(pub AppState);
+
+#[tonic::async_trait]
+impl Admin for AdminHandler {
+    async fn load_dataset(
+        &self,
+        request: Request<pb::LoadDatasetRequest>,
+    ) -> Result<Response<pb::LoadDatasetResponse>, Status> {
+        let folder = request.into_inner().folder;
+        let log_folder = folder.clone();
+        let result = self.0.run(move |engine| engine.load_folder(&folder)).await;
+        match &result {
+            Ok(report) => tracing::info!(
+                folder = %log_folder,
+                dataset = %report.stamp.label(),
+                hash = %report.stamp.content_hash,
+                tables = report.table_count,
+                seconds = report.precompute_seconds,
+                "dataset loaded"
+            ),
+            Err(status) => tracing::warn!(folder = %log_folder, error = %status.message(), "dataset load refused; previous data keep serving"),
+        }
+        let report = result?;
+        Ok(Response::new(pb::LoadDatasetResponse {
+            stamp: Some(stamp(&report.stamp)),
+            replaced: report.replaced.as_ref().map(stamp),
+            species_count: report.species_count as u32,
+            table_count: report.table_count as u32,
+            precompute_seconds: report.precompute_seconds,
+        }))
+    }
+}

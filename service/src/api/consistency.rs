@@ -1,0 +1,24 @@
+//! Consistency service: comparison of two datasets.
+
+use super::AppState;
+use super::convert::{compare_answer, compare_query};
+use ratewell_proto::pb::{self, consistency_server::Consistency};
+use tonic::{Request, Response, Status};
+
+/// Handler of the Consistency service.
+#[derive(Clone)]
+pub struct ConsistencyHandler(pub AppState);
+
+#[tonic::async_trait]
+impl Consistency for ConsistencyHandler {
+    async fn compare_datasets(
+        &self,
+        request: Request<pb::CompareDatasetsRequest>,
+    ) -> Result<Response<pb::CompareDatasetsResponse>, Status> {
+        let req = request.into_inner();
+        self.0
+            .run(move |engine| Ok(compare_answer(engine.compare(&compare_query(&req)?)?)))
+            .await
+            .map(Response::new)
+    }
+}

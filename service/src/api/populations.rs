@@ -1,0 +1,24 @@
+//! Populations service: statistical-equilibrium solves.
+
+use super::AppState;
+use super::convert::{solve_answer, solve_query};
+use ratewell_proto::pb::{self, populations_server::Populations};
+use tonic::{Request, Response, Status};
+
+/// Handler of the Populations service.
+#[derive(Clone)]
+pub struct PopulationsHandler(pub AppState);
+
+#[tonic::async_trait]
+impl Populations for PopulationsHandler {
+    async fn solve_populations(
+        &self,
+        request: Request<pb::SolvePopulationsRequest>,
+    ) -> Result<Response<pb::SolvePopulationsResponse>, Status> {
+        let req = request.into_inner();
+        self.0
+            .run(move |engine| Ok(solve_answer(engine.solve(&solve_query(&req)?)?)))
+            .await
+            .map(Response::new)
+    }
+}

@@ -1,0 +1,90 @@
+//! Rates service: fetch tables for local evaluation, batched lookups, streamed lookups.
+
+use super::AppState;
+use super::convert::{grid_spec, lookup_answer, lookup_query, selector, stamp};
+use ratewell_proto::pb::{self, rates_server::Rates};
+use ratewell_proto::wire::{grid_to_wire, table_to_wire};
+use std::pin::Pin;
+use tokio_stream::{Stream, StreamExt};
+use tonic::{Request, Response, Status, Streaming};
+
+/// Handler of the Rates service.
+#[derive(Clone)]
+pub struct RatesHandler(pub AppState);
+
+/// The response stream of LookupRatesStream.
+pub type LookupStream = Pin<Box<dyn Stream<Item = Result<pb::LookupRatesResponse, Status>> + Send>>;
+
+#[tonic::async_trait]
+impl Rates for RatesHandler {
+    async fn fetch_tables(
+        &self,
+        request: Request<pb::FetchTablesRequest>,
+    ) -> Result<Response<pb::FetchTablesResponse>, Status> {
+        let req = request.into_inner();
+        self.0
+            .run(move |engine| {
+                let loaded = engine.select(&selector(req.dataset.as_ref(), "dataset")?)?;
+                let tables = engine.species_tables(&loaded, &req.species, grid_spec(req.grid.as_ref()))?;
+                Ok(pb::FetchTablesResponse {
+                    stamp: Some(stamp(&loaded.stamp)),
+                    species: tables.species.clone(),
+                    grid: Some(grid_to_wire(&tables.grid)),
+                    tables: tables.tables.iter().map(table_to_wire).collect(),
+                    cautions: tables.cautions.clone(),
+                })
+            })
+            .await
+            .map(Response::new)
+    }
+
+    async fn lookup_rates(
+        &self,
+        request: Request<pb::LookupRatesRequest>,
+    ) -> Result<Response<pb::LookupRatesResponse>, Status> {
+        let req = request.into_inner();
+        self.0
+            .run(move |engine| Ok(lookup_answer(engine.lookup(&lookup_query(&req)?)?)))
+            .await
+            .map(Response::new)
+    }
+
+    type LookupRatesStreamStream = LookupStream;
+
+    async fn lookup_rates_stream(
+        &self,
+        request: Request<Streaming<pb::LookupRatesRequest>>,
+    ) -> Result<Response<Self::LookupRatesStreamStream>, Status> {
+        let mut incoming = request.into_inner();
+        let state = self.0.clone();
+        let output = async_stream_of(move |tx| async move {
+            while let Some(next) = incoming.next().await {
+                let answer = match next {
+                    Ok(req) => {
+                        state
+                            .run(move |engine| Ok(lookup_answer(engine.lookup(&lookup_query(&req)?)?)))
+                            .await
+                    }
+                    Err(status) => Err(status),
+                };
+                let failed = answer.is_err();
+                if tx.send(answer).await.is_err() || failed {
+                    break;
+                }
+            }
+        });
+        Ok(Response::new(output))
+    }
+}
+
+/// A response stream fed by a spawned task through a small bounded channel (backpressure: the
+/// task waits while the client is slow to read).
+fn async_stream_of<F, Fut>(produce: F) -> LookupStream
+where
+    F: FnOnce(tokio::sync::mpsc::Sender<Result<pb::LookupRatesResponse, Status>>) -> Fut,
+    Fut: std::future::Future<Output = ()> + Send + 'static,
+{
+    let (tx, rx) = tokio::sync::mpsc::channel(4);
+    tokio::spawn(produce(tx));
+    Box::pin(tokio_stream::wrappers::ReceiverStream::new(rx))
+}

@@ -1,0 +1,96 @@
+//! Errors of the dataset layer: one enum, and the located [`Problem`] it carries.
+
+use std::fmt;
+use std::path::PathBuf;
+
+/// One thing wrong in a dataset file, located as precisely as the file allows.
+#[derive(Debug, Clone, PartialEq, Eq, serde::Serialize)]
+pub struct Problem {
+    /// The file, as named to the loader (a path on disk, or an embedded file name).
+    pub file: String,
+    /// 1-based line of the offending key or value; `None` when the problem is the whole file.
+    pub line: Option<usize>,
+    /// Path of the field inside the file, e.g. `collision[2].upsilon[3]` (array positions 0-based).
+    pub field: String,
+    /// What is wrong, naming the value and what is allowed.
+    pub message: String,
+}
+
+impl fmt::Display for Problem {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self.line {
+            Some(line) => write!(f, "{}:{}: {}: {}", self.file, line, self.field, self.message),
+            None => write!(f, "{}: {}: {}", self.file, self.field, self.message),
+        }
+    }
+}
+
+/// Everything that can go wrong while reading, checking or cataloguing datasets.
+#[derive(Debug, thiserror::Error)]
+pub enum DatasetError {
+    /// A file or folder could not be read.
+    #[error("cannot read {}: {source}", path.display())]
+    Io {
+        /// The file or folder.
+        path: PathBuf,
+        /// The operating-system error.
+        #[source]
+        source: std::io::Error,
+    },
+    /// A dataset folder (or set of embedded files) has no manifest `dataset.toml`.
+    #[error("no dataset manifest `{}` in {location}", super::MANIFEST_FILE)]
+    MissingManifest {
+        /// The folder, or the name of the embedded file set.
+        location: String,
+    },
+    /// The files were read but break the format; every problem found is listed.
+    #[error("{}", list_problems(problems))]
+    Invalid {
+        /// All problems, sorted by file and line.
+        problems: Vec<Problem>,
+    },
+    /// Two datasets with the same id and version were offered to one catalogue.
+    #[error("dataset `{id}` version {version} appears twice: in {first} and in {second}")]
+    Duplicate {
+        /// Dataset id.
+        id: String,
+        /// Dataset version.
+        version: String,
+        /// Where the first copy came from.
+        first: String,
+        /// Where the second copy came from.
+        second: String,
+    },
+    /// Several datasets of one data folder failed; each error is kept.
+    #[error("{} datasets failed to load:\n{}", errors.len(), list_errors(errors))]
+    Several {
+        /// One error per failed dataset, in folder order.
+        errors: Vec<DatasetError>,
+    },
+}
+
+impl DatasetError {
+    /// All located problems inside this error (empty for I/O and catalogue errors).
+    pub fn problems(&self) -> Vec<&Problem> {
+        match self {
+            DatasetError::Invalid { problems } => problems.iter().collect(),
+            DatasetError::Several { errors } => errors.iter().flat_map(|e| e.problems()).collect(),
+            DatasetError::Io { .. } | DatasetError::MissingManifest { .. } | DatasetError::Duplicate { .. } => {
+                Vec::new()
+            }
+        }
+    }
+}
+
+fn list_problems(problems: &[Problem]) -> String {
+    let mut out = format!("invalid dataset ({} problem(s)):", problems.len());
+    for p in problems {
+        out.push_str("\n  ");
+        out.push_str(&p.to_string());
+    }
+    out
+}
+
+fn list_errors(errors: &[DatasetError]) -> String {
+    errors.iter().map(|e| e.to_string()).collect::<Vec<_>>().join("\n")
+}

@@ -1,0 +1,173 @@
+//! Batched rate-coefficient lookups: many transitions at many temperatures, evaluated with the
+//! shared rule (each temperature located once on the species' grid).
+
+use super::units::{RateUnit, TemperatureUnit};
+use super::{Engine, EngineError, GridSpec, Selector, Stamp};
+use ratewell_proto::rule::{Direction, OutsidePolicy, RuleError, checked_location};
+
+/// A batched lookup.
+#[derive(Debug, Clone)]
+pub struct LookupQuery {
+    /// Which dataset.
+    pub selector: Selector,
+    /// Species name.
+    pub species: String,
+    /// (upper, lower) 1-based; empty means every transition with collision data.
+    pub transitions: Vec<(u32, u32)>,
+    /// Temperatures in `temperature_unit`.
+    pub temperatures: Vec<f64>,
+    /// Unit of `temperatures`.
+    pub temperature_unit: TemperatureUnit,
+    /// Which rate coefficients.
+    pub direction: Direction,
+    /// Unit of the answer.
+    pub rate_unit: RateUnit,
+    /// Temperatures outside the grid: refuse or extrapolate.
+    pub outside: OutsidePolicy,
+    /// Table grid; `None` uses the dataset's default.
+    pub grid: Option<GridSpec>,
+}
+
+/// The answer to a [`LookupQuery`]; arrays are transition-major (t * n_temperatures + j).
+#[derive(Debug, Clone, PartialEq)]
+pub struct LookupAnswer {
+    /// Dataset the values came from.
+    pub stamp: Stamp,
+    /// Species name.
+    pub species: String,
+    /// The transitions, in answer order.
+    pub transitions: Vec<(u32, u32)>,
+    /// Number of temperatures.
+    pub temperature_count: usize,
+    /// Unit of the values.
+    pub rate_unit: RateUnit,
+    /// q_lu values (empty when not asked for).
+    pub excitation: Vec<f64>,
+    /// q_ul values (empty when not asked for).
+    pub deexcitation: Vec<f64>,
+    /// Flag bits per value.
+    pub flags: Vec<u32>,
+    /// Cautions for the user.
+    pub cautions: Vec<String>,
+}
+
+/// Validates temperatures in their unit, reporting every bad element, and returns them in K.
+pub fn temperatures_in_kelvin(values: &[f64], unit: TemperatureUnit) -> Result<Vec<f64>, EngineError> {
+    if values.is_empty() {
+        return Err(EngineError::invalid("temperatures", "[]", "must hold at least one temperature"));
+    }
+    let violations: Vec<(String, String)> = values
+        .iter()
+        .enumerate()
+        .filter(|(_, v)| !(v.is_finite() && **v > 0.0))
+        .map(|(i, v)| {
+            let field = format!("temperatures[{i}]");
+            let message = format!("{field} = {v} {}: must be finite and > 0", unit.symbol());
+            (field, message)
+        })
+        .collect();
+    if !violations.is_empty() {
+        return Err(EngineError::BadBatch { violations });
+    }
+    Ok(values.iter().map(|&v| unit.to_kelvin(v)).collect())
+}
+
+impl Engine {
+    /// Answers a batched lookup. CPU work proportional to transitions x temperatures.
+    pub fn lookup(&self, query: &LookupQuery) -> Result<LookupAnswer, EngineError> {
+        let loaded = self.select(&query.selector)?;
+        let tables = self.species_tables(&loaded, &query.species, query.grid)?;
+        let temps_k = temperatures_in_kelvin(&query.temperatures, query.temperature_unit)?;
+        let positions: Vec<usize> = if query.transitions.is_empty() {
+            (0..tables.tables.len()).collect()
+        } else {
+            query
+                .transitions
+                .iter()
+                .enumerate()
+                .map(|(index, &(upper, lower))| {
+                    tables.position(upper, lower).ok_or(EngineError::UnknownTransition {
+                        index,
+                        species: query.species.clone(),
+                        upper,
+                        lower,
+                    })
+                })
+                .collect::<Result<_, _>>()?
+        };
+        let n_t = temps_k.len();
+        let total = positions.len().saturating_mul(n_t);
+        let limit = self.config().max_lookup_values;
+        if total > limit {
+            return Err(EngineError::TooLarge {
+                field: "transitions x temperatures".into(),
+                value: total,
+                limit,
+            });
+        }
+        let locations = temps_k
+            .iter()
+            .enumerate()
+            .map(|(j, &t)| checked_location(&tables.grid, j, t, query.outside))
+            .collect::<Result<Vec<_>, RuleError>>()
+            .map_err(|e| match e {
+                RuleError::OutsideGrid { .. } => EngineError::OutOfRange(e.to_string()),
+                other => EngineError::Rule(other),
+            })?;
+        let dir = query.direction;
+        let sized = |wanted: bool| if wanted { vec![0.0; total] } else { Vec::new() };
+        let mut excitation = sized(dir.wants_excitation());
+        let mut deexcitation = sized(dir.wants_deexcitation());
+        let mut flags = vec![0u32; total];
+        for (t, &p) in positions.iter().enumerate() {
+            let table = &tables.tables[p];
+            let range = t * n_t..(t + 1) * n_t;
+            let exc: &mut [f64] = if excitation.is_empty() { &mut [] } else { &mut excitation[range.clone()] };
+            let deexc: &mut [f64] = if deexcitation.is_empty() { &mut [] } else { &mut deexcitation[range.clone()] };
+            let fl = &mut flags[range];
+            for (j, loc) in locations.iter().enumerate() {
+                table.write_at(loc, dir, j, exc, deexc, fl);
+            }
+        }
+        let factor = query.rate_unit.from_cm3_s_factor();
+        if factor != 1.0 {
+            excitation.iter_mut().chain(deexcitation.iter_mut()).for_each(|v| *v *= factor);
+        }
+        let mut cautions = tables.cautions.clone();
+        let all_flags = flags.iter().fold(0, |a, b| a | b);
+        add_flag_cautions(&mut cautions, all_flags);
+        Ok(LookupAnswer {
+            stamp: loaded.stamp.clone(),
+            species: query.species.clone(),
+            transitions: positions
+                .iter()
+                .map(|&p| {
+                    let h = tables.tables[p].header();
+                    (h.upper, h.lower)
+                })
+                .collect(),
+            temperature_count: n_t,
+            rate_unit: query.rate_unit,
+            excitation,
+            deexcitation,
+            flags,
+            cautions,
+        })
+    }
+}
+
+/// Adds a caution for each kind of flagged value present in an answer.
+pub fn add_flag_cautions(cautions: &mut Vec<String>, all_flags: u32) {
+    use ratewell_proto::rule::flags;
+    if all_flags & flags::APPROXIMATE != 0 {
+        cautions.push(
+            "some values are APPROXIMATE (estimated without collision data): treat as order of magnitude".into(),
+        );
+    }
+    if all_flags & flags::BEYOND_SOURCE != 0 {
+        cautions.push("some values are BEYOND_SOURCE: extrapolated outside the source data's temperature range".into());
+    }
+    if all_flags & flags::OUTSIDE_GRID != 0 {
+        cautions.push("some values are OUTSIDE_GRID: extrapolated beyond the table grid".into());
+    }
+}

@@ -1,0 +1,303 @@
+//! The engine: the pure core behind the gRPC handlers. It owns the loaded datasets and the
+//! table cache and answers catalogue, lookup, population and comparison queries in core types
+//! (no tonic, no wire messages). Handlers convert, call one method here, and convert back.
+//!
+//! - [`registry`]: loaded datasets by id and version, swapped in atomically.
+//! - [`lookup`]: batched rate-coefficient lookups.
+//! - [`solve`]: population solves over lists or grids of (Te, ne), in parallel.
+//! - [`compare`]: consistency comparison of two datasets.
+//! - [`units`]: request and answer units.
+//! - [`error`]: the engine's error enum.
+
+pub mod compare;
+pub mod error;
+pub mod lookup;
+pub mod registry;
+pub mod solve;
+pub mod units;
+
+pub use error::EngineError;
+pub use registry::{LoadedDataset, Registry, Selector, SolveInputs, Stamp};
+
+use crate::dataset::{self, Dataset};
+use crate::physics::populations::RadiativeRate;
+use crate::tables::{SpeciesTables, TableCache, TableKey, build_species_tables};
+use ratewell_proto::rule::LogGrid;
+use std::collections::HashMap;
+use std::path::{Path, PathBuf};
+use std::sync::Arc;
+use std::time::{Instant, SystemTime, UNIX_EPOCH};
+
+/// A temperature grid request: range in K and points per decade.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct GridSpec {
+    /// Lowest temperature, K.
+    pub t_min_k: f64,
+    /// Highest temperature, K.
+    pub t_max_k: f64,
+    /// Knots per decade of temperature.
+    pub points_per_decade: u32,
+}
+
+impl GridSpec {
+    /// The uniform log grid this spec describes.
+    pub fn to_grid(self) -> Result<LogGrid, EngineError> {
+        Ok(LogGrid::from_range(self.t_min_k, self.t_max_k, self.points_per_decade)?)
+    }
+}
+
+/// Engine settings (a subset of the server configuration).
+#[derive(Debug, Clone)]
+pub struct EngineConfig {
+    /// Grid on which every species' tables are precomputed at load.
+    pub default_grid: GridSpec,
+    /// Folder that `load_folder` names are resolved in.
+    pub data_dir: Option<PathBuf>,
+    /// Tables on non-default grids kept in the cache at most (species x grid entries).
+    pub max_extra_cached_grids: usize,
+    /// Largest knots x transitions a request may ask to build on a non-default grid.
+    pub max_table_values_per_request: usize,
+    /// Largest transitions x temperatures in one lookup.
+    pub max_lookup_values: usize,
+    /// Largest number of (Te, ne) points in one population solve.
+    pub max_solve_points: usize,
+}
+
+impl Default for EngineConfig {
+    fn default() -> Self {
+        Self {
+            // 10 K to 1e9 K covers neutral-gas, nebular, coronal and fusion-edge plasmas.
+            default_grid: GridSpec {
+                t_min_k: 10.0,
+                t_max_k: 1e9,
+                points_per_decade: 20,
+            },
+            data_dir: None,
+            max_extra_cached_grids: 64,
+            max_table_values_per_request: 20_000_000,
+            max_lookup_values: 4_000_000,
+            max_solve_points: 100_000,
+        }
+    }
+}
+
+/// What a successful load did.
+#[derive(Debug, Clone)]
+pub struct LoadReport {
+    /// The loaded dataset.
+    pub stamp: Stamp,
+    /// The dataset it replaced (same id and version), if any.
+    pub replaced: Option<Stamp>,
+    /// Number of species.
+    pub species_count: usize,
+    /// Number of tables built.
+    pub table_count: usize,
+    /// Seconds spent building tables.
+    pub precompute_seconds: f64,
+}
+
+/// The shared core. Cheap to clone.
+#[derive(Clone)]
+pub struct Engine {
+    inner: Arc<Inner>,
+}
+
+struct Inner {
+    config: EngineConfig,
+    registry: Registry,
+    cache: TableCache,
+}
+
+impl Engine {
+    /// An engine with no datasets loaded.
+    pub fn new(config: EngineConfig) -> Self {
+        let cache = TableCache::new(config.max_extra_cached_grids);
+        Self {
+            inner: Arc::new(Inner {
+                config,
+                registry: Registry::default(),
+                cache,
+            }),
+        }
+    }
+
+    /// The engine's settings.
+    pub fn config(&self) -> &EngineConfig {
+        &self.inner.config
+    }
+
+    /// Precomputes tables for `dataset` and swaps it in. CPU-heavy: call from a blocking thread.
+    /// On error nothing changes.
+    pub fn install(&self, dataset: Dataset) -> Result<LoadReport, EngineError> {
+        let started = Instant::now();
+        let grid = self.inner.config.default_grid.to_grid()?;
+        let mut tables = HashMap::new();
+        let mut solve_inputs = HashMap::new();
+        for species in &dataset.species {
+            tables.insert(species.name.clone(), Arc::new(build_species_tables(species, grid)?));
+            solve_inputs.insert(species.name.clone(), Arc::new(solve_inputs_for(species)));
+        }
+        let precompute_seconds = started.elapsed().as_secs_f64();
+        let stamp = Stamp {
+            id: dataset.id.clone(),
+            version: dataset.version.clone(),
+            content_hash: dataset.content_hash.clone(),
+        };
+        let table_count = tables.values().map(|t| t.tables.len()).sum();
+        for (name, t) in &tables {
+            self.inner
+                .cache
+                .insert(TableKey::new(&stamp.content_hash, name, &grid), Arc::clone(t), true);
+        }
+        let species_count = dataset.species.len();
+        let loaded = Arc::new(LoadedDataset {
+            dataset: Arc::new(dataset),
+            stamp: stamp.clone(),
+            default_grid: grid,
+            tables,
+            solve_inputs,
+            loaded_at_unix_s: SystemTime::now()
+                .duration_since(UNIX_EPOCH)
+                .map(|d| d.as_secs() as i64)
+                .unwrap_or(0),
+            precompute_seconds,
+        });
+        let replaced = self.inner.registry.install(loaded);
+        if let Some(old) = &replaced {
+            if !self.inner.registry.holds_hash(&old.stamp.content_hash) {
+                self.inner.cache.remove_dataset(&old.stamp.content_hash);
+            }
+        }
+        Ok(LoadReport {
+            stamp,
+            replaced: replaced.map(|r| r.stamp.clone()),
+            species_count,
+            table_count,
+            precompute_seconds,
+        })
+    }
+
+    /// Loads the embedded demo dataset.
+    pub fn load_demo(&self) -> Result<LoadReport, EngineError> {
+        self.install(dataset::demo_dataset()?)
+    }
+
+    /// Loads a dataset folder from disk (any path).
+    pub fn load_path(&self, path: &Path) -> Result<LoadReport, EngineError> {
+        self.install(dataset::load_folder(path)?)
+    }
+
+    /// Loads folder `name` under the configured data folder. `name` must be a plain folder
+    /// name (no separators, no `..`).
+    pub fn load_folder(&self, name: &str) -> Result<LoadReport, EngineError> {
+        let Some(root) = &self.inner.config.data_dir else {
+            return Err(EngineError::invalid(
+                "folder",
+                format!("{name:?}"),
+                "the server was started without a data folder (set data_dir), so only the embedded demo is available",
+            ));
+        };
+        let plain = !name.is_empty()
+            && name != "."
+            && name != ".."
+            && !name.contains(['/', '\\'])
+            && !name.contains('\0');
+        if !plain {
+            return Err(EngineError::invalid(
+                "folder",
+                format!("{name:?}"),
+                "must be one folder name inside the data folder (no path separators or ..)",
+            ));
+        }
+        self.load_path(&root.join(name))
+    }
+
+    /// Every loaded dataset.
+    pub fn datasets(&self) -> Vec<Arc<LoadedDataset>> {
+        self.inner.registry.all()
+    }
+
+    /// The dataset a selector names.
+    pub fn select(&self, selector: &Selector) -> Result<Arc<LoadedDataset>, EngineError> {
+        self.inner.registry.select(selector)
+    }
+
+    /// Approximate heap bytes held by cached tables.
+    pub fn table_bytes(&self) -> usize {
+        self.inner.cache.table_bytes()
+    }
+
+    /// The tables of `species` in `loaded` on `grid` (default grid when `None`), building and
+    /// caching them on first use. May be CPU-heavy for a new grid: call from a blocking thread.
+    pub fn species_tables(
+        &self,
+        loaded: &LoadedDataset,
+        species: &str,
+        grid: Option<GridSpec>,
+    ) -> Result<Arc<SpeciesTables>, EngineError> {
+        let default = loaded
+            .tables
+            .get(species)
+            .ok_or_else(|| unknown_species_error(loaded, species))?;
+        let Some(spec) = grid else {
+            return Ok(Arc::clone(default));
+        };
+        let grid = spec.to_grid()?;
+        if grid == loaded.default_grid {
+            return Ok(Arc::clone(default));
+        }
+        let key = TableKey::new(&loaded.stamp.content_hash, species, &grid);
+        if let Some(t) = self.inner.cache.get(&key) {
+            return Ok(t);
+        }
+        let values = grid.knots() * default.tables.len();
+        let limit = self.inner.config.max_table_values_per_request;
+        if values > limit {
+            return Err(EngineError::TooLarge {
+                field: "grid knots x transitions".into(),
+                value: values,
+                limit,
+            });
+        }
+        let data = loaded
+            .dataset
+            .species(species)
+            .ok_or_else(|| unknown_species_error(loaded, species))?;
+        let built = Arc::new(build_species_tables(data, grid)?);
+        Ok(self.inner.cache.insert(key, built, false))
+    }
+}
+
+
+/// The not-found error for a species missing from `loaded`.
+pub fn unknown_species_error(loaded: &LoadedDataset, species: &str) -> EngineError {
+    EngineError::UnknownSpecies {
+        dataset: loaded.stamp.label(),
+        species: species.to_owned(),
+        available: loaded
+            .dataset
+            .species
+            .iter()
+            .map(|s| s.name.as_str())
+            .collect::<Vec<_>>()
+            .join(", "),
+    }
+}
+
+fn solve_inputs_for(species: &dataset::Species) -> SolveInputs {
+    let ground = species.levels.first().map_or(0.0, |l| l.energy_cm1);
+    SolveInputs {
+        energies_cm1: species.levels.iter().map(|l| l.energy_cm1 - ground).collect(),
+        radiative: species
+            .radiative
+            .iter()
+            .filter_map(|r| {
+                Some(RadiativeRate {
+                    upper: species.level_position(r.upper)?,
+                    lower: species.level_position(r.lower)?,
+                    a_s: r.a_per_s,
+                })
+            })
+            .collect(),
+    }
+}

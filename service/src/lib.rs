@@ -1,0 +1,22 @@
+//! ratewell server library.
+//!
+//! Module map (arrows point one way: api -> engine -> tables -> physics; dataset -> physics):
+//! - [`physics`]: pure atomic physics (constants, units, rate coefficients, Maxwellian
+//!   averaging, Burgess & Tully scaling, approximations, statistical equilibrium, emission).
+//! - [`dataset`]: the dataset model, our TOML file format, validation, content hash, catalogue
+//!   and the embedded demo dataset.
+//! - [`tables`]: rate tables precomputed on uniform log-T grids, their measured interpolation
+//!   error, and the table cache.
+//! - [`engine`]: the pure core behind the handlers: loaded datasets, lookups, population
+//!   solves, comparisons.
+//! - [`api`]: thin gRPC handlers, wire conversions and the one error-to-status mapping.
+//! - [`config`]: every setting and limit, from defaults, file, environment and flags.
+//! - [`server`]: `run(listener, config, shutdown)`, used by the binary and the tests.
+
+pub mod api;
+pub mod config;
+pub mod dataset;
+pub mod engine;
+pub mod physics;
+pub mod server;
+pub mod tables;

@@ -1,0 +1,70 @@
+//! The ratewell server binary: parse configuration, set up logs, bind, serve until SIGINT or
+//! SIGTERM.
+
+use clap::Parser;
+use ratewell_service::config::{Config, Flags};
+use ratewell_service::server;
+use std::process::ExitCode;
+use tracing_subscriber::EnvFilter;
+
+fn main() -> ExitCode {
+    let flags = Flags::parse();
+    let config = match Config::resolve(&flags) {
+        Ok(c) => c,
+        Err(e) => {
+            eprintln!("ratewell-server: {e}");
+            return ExitCode::from(2);
+        }
+    };
+    let filter = EnvFilter::try_from_default_env().unwrap_or_else(|_| EnvFilter::new("info"));
+    if config.json_logs {
+        tracing_subscriber::fmt().with_env_filter(filter).json().init();
+    } else {
+        tracing_subscriber::fmt().with_env_filter(filter).init();
+    }
+    let runtime = match tokio::runtime::Builder::new_multi_thread().enable_all().build() {
+        Ok(r) => r,
+        Err(e) => {
+            eprintln!("ratewell-server: cannot start the async runtime: {e}");
+            return ExitCode::FAILURE;
+        }
+    };
+    runtime.block_on(async move {
+        let listener = match tokio::net::TcpListener::bind(config.listen).await {
+            Ok(l) => l,
+            Err(e) => {
+                tracing::error!(listen = %config.listen, error = %e, "cannot bind");
+                return ExitCode::FAILURE;
+            }
+        };
+        match server::run(listener, config, shutdown_signal()).await {
+            Ok(()) => ExitCode::SUCCESS,
+            Err(e) => {
+                tracing::error!(error = %e, "server stopped with an error");
+                ExitCode::FAILURE
+            }
+        }
+    })
+}
+
+/// Resolves on SIGINT (Ctrl-C) or, on Unix, SIGTERM.
+async fn shutdown_signal() {
+    let ctrl_c = async {
+        let _ = tokio::signal::ctrl_c().await;
+    };
+    #[cfg(unix)]
+    let term = async {
+        match tokio::signal::unix::signal(tokio::signal::unix::SignalKind::terminate()) {
+            Ok(mut s) => {
+                s.recv().await;
+            }
+            Err(_) => std::future::pending::<()>().await,
+        }
+    };
+    #[cfg(not(unix))]
+    let term = std::future::pending::<()>();
+    tokio::select! {
+        () = ctrl_c => tracing::info!("SIGINT received"),
+        () = term => tracing::info!("SIGTERM received"),
+    }
+}

@@ -1,0 +1,152 @@
+//! Line emission from level populations: emissivity per ion n_j A_ji h nu_ji, vacuum
+//! wavelengths, line ratios, critical densities and the radiated power per ion.
+//! Level energies are in cm^-1 above the ground level; populations are fractions of the ion.
+
+use super::constants::INVERSE_CM_J;
+use super::error::{PhysicsError, require_non_negative, require_positive, require_same_len};
+use super::populations::{CollisionalRate, RadiativeRate};
+use super::units::vacuum_wavelength_angstrom_from_cm1;
+
+/// Joules per erg.
+const J_PER_ERG: f64 = 1.0e-7;
+
+/// Emission of one line per ion of the species.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct LineEmission {
+    /// Upper level index.
+    pub upper: usize,
+    /// Lower level index.
+    pub lower: usize,
+    /// Photon energy E_upper - E_lower, cm^-1.
+    pub delta_e_cm1: f64,
+    /// Vacuum wavelength, Angstrom.
+    pub wavelength_vacuum_angstrom: f64,
+    /// Emissivity per ion n_u A h nu, W.
+    pub emissivity_w_per_ion: f64,
+    /// The same in erg s^-1.
+    pub emissivity_erg_s_per_ion: f64,
+}
+
+/// Emissivity per ion of one line, W: `upper_fraction` n_u (0..=1) times `a_s` (s^-1) times
+/// the photon energy `delta_e_cm1` (cm^-1, > 0).
+pub fn line_emissivity_w_per_ion(
+    upper_fraction: f64,
+    a_s: f64,
+    delta_e_cm1: f64,
+) -> Result<f64, PhysicsError> {
+    require_non_negative(upper_fraction, "", || "upper_fraction".to_owned())?;
+    require_non_negative(a_s, "s^-1", || "a_s".to_owned())?;
+    require_positive(delta_e_cm1, "cm^-1", || "delta_e_cm1".to_owned())?;
+    Ok(upper_fraction * a_s * delta_e_cm1 * INVERSE_CM_J)
+}
+
+/// Convert an emissivity from W to erg s^-1.
+pub fn w_to_erg_s(power_w: f64) -> f64 {
+    power_w / J_PER_ERG
+}
+
+/// All line emissions for the given `fractions` (per level) and level energies
+/// `level_energies_cm1` (cm^-1, same length); each transition needs E_upper > E_lower.
+pub fn line_emissions(
+    fractions: &[f64],
+    level_energies_cm1: &[f64],
+    radiative: &[RadiativeRate],
+) -> Result<Vec<LineEmission>, PhysicsError> {
+    require_same_len(
+        "fractions",
+        fractions.len(),
+        "level_energies_cm1",
+        level_energies_cm1.len(),
+    )?;
+    let n = fractions.len();
+    for (j, &f) in fractions.iter().enumerate() {
+        require_non_negative(f, "", || format!("fractions[{j}]"))?;
+    }
+    for (j, &e) in level_energies_cm1.iter().enumerate() {
+        require_non_negative(e, "cm^-1", || format!("level_energies_cm1[{j}]"))?;
+    }
+    radiative
+        .iter()
+        .enumerate()
+        .map(|(i, r)| {
+            for (name, level) in [("upper", r.upper), ("lower", r.lower)] {
+                if level >= n {
+                    return Err(PhysicsError::LevelOutOfRange {
+                        field: format!("radiative[{i}].{name}"),
+                        value: level,
+                        n_levels: n,
+                    });
+                }
+            }
+            let delta_e_cm1 = level_energies_cm1[r.upper] - level_energies_cm1[r.lower];
+            require_positive(delta_e_cm1, "cm^-1", || {
+                format!("radiative[{i}] energy difference E_upper - E_lower")
+            })?;
+            require_non_negative(r.a_s, "s^-1", || format!("radiative[{i}].a_s"))?;
+            let w = fractions[r.upper] * r.a_s * delta_e_cm1 * INVERSE_CM_J;
+            Ok(LineEmission {
+                upper: r.upper,
+                lower: r.lower,
+                delta_e_cm1,
+                wavelength_vacuum_angstrom: vacuum_wavelength_angstrom_from_cm1(delta_e_cm1),
+                emissivity_w_per_ion: w,
+                emissivity_erg_s_per_ion: w_to_erg_s(w),
+            })
+        })
+        .collect()
+}
+
+/// Ratio of two emissivities (same units); the denominator must be > 0.
+pub fn line_ratio(numerator: f64, denominator: f64) -> Result<f64, PhysicsError> {
+    require_non_negative(numerator, "", || "numerator".to_owned())?;
+    require_positive(denominator, "", || "denominator".to_owned())?;
+    Ok(numerator / denominator)
+}
+
+/// Radiated power per ion, W: the sum of all line emissivities.
+pub fn radiated_power_w_per_ion(lines: &[LineEmission]) -> f64 {
+    lines.iter().map(|l| l.emissivity_w_per_ion).sum()
+}
+
+/// Critical density of every level, cm^-3: n_c(j) = sum_k A_jk / sum_(k != j) q_jk, the density
+/// at which collisional depopulation equals radiative decay. `None` for a level with no
+/// collisional rate out of it; 0 for a level without radiative decay.
+pub fn critical_densities_cm3(
+    n_levels: usize,
+    radiative: &[RadiativeRate],
+    collisional: &[CollisionalRate],
+) -> Result<Vec<Option<f64>>, PhysicsError> {
+    let mut a_out = vec![0.0; n_levels];
+    let mut q_out = vec![0.0; n_levels];
+    let check = |list: &str, i: usize, name: &str, level: usize| {
+        if level < n_levels {
+            Ok(level)
+        } else {
+            Err(PhysicsError::LevelOutOfRange {
+                field: format!("{list}[{i}].{name}"),
+                value: level,
+                n_levels,
+            })
+        }
+    };
+    for (i, r) in radiative.iter().enumerate() {
+        let u = check("radiative", i, "upper", r.upper)?;
+        check("radiative", i, "lower", r.lower)?;
+        a_out[u] += require_non_negative(r.a_s, "s^-1", || format!("radiative[{i}].a_s"))?;
+    }
+    for (i, c) in collisional.iter().enumerate() {
+        let u = check("collisional", i, "upper", c.upper)?;
+        let l = check("collisional", i, "lower", c.lower)?;
+        q_out[u] += require_non_negative(c.deexcitation_cm3_s, "cm^3 s^-1", || {
+            format!("collisional[{i}].deexcitation_cm3_s")
+        })?;
+        q_out[l] += require_non_negative(c.excitation_cm3_s, "cm^3 s^-1", || {
+            format!("collisional[{i}].excitation_cm3_s")
+        })?;
+    }
+    Ok(a_out
+        .iter()
+        .zip(&q_out)
+        .map(|(&a, &q)| if q > 0.0 { Some(a / q) } else { None })
+        .collect())
+}

@@ -1,0 +1,168 @@
+//! Serving: builds the engine from the configuration, registers the gRPC services (ours,
+//! standard health checking, reflection), and runs until the shutdown future resolves, then
+//! drains: health NOT_SERVING, a short pause, then a graceful stop bounded by
+//! `shutdown_grace`. `main` and the end-to-end tests both call [`run`].
+
+use crate::api::admin::AdminHandler;
+use crate::api::catalogue::CatalogueHandler;
+use crate::api::consistency::ConsistencyHandler;
+use crate::api::populations::PopulationsHandler;
+use crate::api::rates::RatesHandler;
+use crate::api::transport::TransportHandler;
+use crate::api::AppState;
+use crate::config::Config;
+use crate::dataset;
+use crate::engine::{Engine, EngineError};
+use ratewell_proto::pb::{
+    admin_server::AdminServer, catalogue_server::CatalogueServer, consistency_server::ConsistencyServer,
+    populations_server::PopulationsServer, rates_server::RatesServer, transport_server::TransportServer,
+};
+use std::future::Future;
+use std::time::Instant;
+use tokio::net::TcpListener;
+use tokio_stream::StreamExt;
+use tokio_stream::wrappers::TcpListenerStream;
+
+/// Why the server could not start or stopped with an error.
+#[derive(Debug, thiserror::Error)]
+pub enum ServerError {
+    /// A dataset failed to load at start-up.
+    #[error("start-up load failed: {0}")]
+    Load(#[from] EngineError),
+    /// The transport failed.
+    #[error("transport error: {0}")]
+    Transport(#[from] tonic::transport::Error),
+    /// Reflection could not be built from the descriptor set.
+    #[error("reflection setup failed: {0}")]
+    Reflection(#[from] tonic_reflection::server::Error),
+    /// A start-up task panicked or was cancelled.
+    #[error("start-up task failed: {0}")]
+    Join(#[from] tokio::task::JoinError),
+}
+
+/// Builds the engine and loads the configured datasets (demo and/or every dataset folder of
+/// the data folder). CPU-heavy: runs table precompute.
+pub fn build_engine(config: &Config) -> Result<Engine, EngineError> {
+    let engine = Engine::new(config.engine_config());
+    if config.demo {
+        let report = engine.load_demo()?;
+        tracing::info!(dataset = %report.stamp.label(), hash = %report.stamp.content_hash, tables = report.table_count, seconds = report.precompute_seconds, "demo dataset loaded (invented data)");
+    }
+    if let Some(dir) = &config.data_dir {
+        for path in dataset::find_dataset_dirs(dir)? {
+            let report = engine.load_path(&path)?;
+            tracing::info!(folder = %path.display(), dataset = %report.stamp.label(), hash = %report.stamp.content_hash, tables = report.table_count, seconds = report.precompute_seconds, "dataset loaded");
+        }
+    }
+    Ok(engine)
+}
+
+/// Serves on `listener` until `shutdown` resolves, then drains and stops.
+pub async fn run(
+    listener: TcpListener,
+    config: Config,
+    shutdown: impl Future<Output = ()> + Send + 'static,
+) -> Result<(), ServerError> {
+    let started = Instant::now();
+    let engine_config = config.clone();
+    let engine = tokio::task::spawn_blocking(move || build_engine(&engine_config)).await??;
+    serve(listener, config, engine, shutdown, started).await
+}
+
+/// Serves an already built engine (tests and benchmarks use this to skip loading twice).
+pub async fn serve(
+    listener: TcpListener,
+    config: Config,
+    engine: Engine,
+    shutdown: impl Future<Output = ()> + Send + 'static,
+    started: Instant,
+) -> Result<(), ServerError> {
+    let state = AppState::new(engine, config.max_in_flight);
+    let limit = config.max_message_bytes;
+    let (health, health_service) = tonic_health::server::health_reporter();
+    let reflection_v1 = tonic_reflection::server::Builder::configure()
+        .register_encoded_file_descriptor_set(ratewell_proto::FILE_DESCRIPTOR_SET)
+        .register_encoded_file_descriptor_set(tonic_health::pb::FILE_DESCRIPTOR_SET)
+        .build_v1()?;
+    let reflection_v1alpha = tonic_reflection::server::Builder::configure()
+        .register_encoded_file_descriptor_set(ratewell_proto::FILE_DESCRIPTOR_SET)
+        .register_encoded_file_descriptor_set(tonic_health::pb::FILE_DESCRIPTOR_SET)
+        .build_v1alpha()?;
+
+    macro_rules! limited {
+        ($server:ident, $handler:expr) => {
+            $server::new($handler)
+                .max_decoding_message_size(limit)
+                .max_encoding_message_size(limit)
+        };
+    }
+    health.set_serving::<CatalogueServer<CatalogueHandler>>().await;
+    health.set_serving::<RatesServer<RatesHandler>>().await;
+    health.set_serving::<PopulationsServer<PopulationsHandler>>().await;
+    health.set_serving::<ConsistencyServer<ConsistencyHandler>>().await;
+    health.set_serving::<AdminServer<AdminHandler>>().await;
+
+    let mut builder = tonic::transport::Server::builder()
+        .timeout(config.request_timeout)
+        .http2_keepalive_interval(Some(config.keepalive_interval))
+        .http2_keepalive_timeout(Some(config.keepalive_timeout))
+        .tcp_nodelay(true);
+    let mut router = builder
+        .add_service(health_service)
+        .add_service(reflection_v1)
+        .add_service(reflection_v1alpha)
+        .add_service(limited!(CatalogueServer, CatalogueHandler(state.clone())))
+        .add_service(limited!(RatesServer, RatesHandler(state.clone())))
+        .add_service(limited!(PopulationsServer, PopulationsHandler(state.clone())))
+        .add_service(limited!(ConsistencyServer, ConsistencyHandler(state.clone())))
+        .add_service(limited!(AdminServer, AdminHandler(state.clone())));
+    if config.benchmark_endpoints {
+        router = router.add_service(limited!(TransportServer, TransportHandler));
+        tracing::warn!("benchmark-only Transport service enabled");
+    }
+
+    // serve_with_incoming ignores the builder's nodelay flag, so set it per connection.
+    let local = listener.local_addr().ok();
+    let incoming = TcpListenerStream::new(listener).map(|conn| {
+        if let Ok(stream) = &conn {
+            let _ = stream.set_nodelay(true);
+        }
+        conn
+    });
+    tracing::info!(
+        listen = ?local,
+        ready_after_ms = started.elapsed().as_millis() as u64,
+        max_message_bytes = config.max_message_bytes,
+        max_in_flight = config.max_in_flight,
+        max_lookup_values = config.max_lookup_values,
+        max_solve_points = config.max_solve_points,
+        request_timeout_s = config.request_timeout.as_secs_f64(),
+        grid = ?config.default_grid,
+        table_bytes = state.engine.table_bytes(),
+        "serving"
+    );
+
+    let (stop_tx, stop_rx) = tokio::sync::oneshot::channel::<()>();
+    let server = tokio::spawn(router.serve_with_incoming_shutdown(incoming, async {
+        let _ = stop_rx.await;
+    }));
+    shutdown.await;
+    tracing::info!("shutdown requested: health NOT_SERVING, draining");
+    health.set_service_status("", tonic_health::ServingStatus::NotServing).await;
+    health.set_not_serving::<CatalogueServer<CatalogueHandler>>().await;
+    health.set_not_serving::<RatesServer<RatesHandler>>().await;
+    health.set_not_serving::<PopulationsServer<PopulationsHandler>>().await;
+    health.set_not_serving::<ConsistencyServer<ConsistencyHandler>>().await;
+    health.set_not_serving::<AdminServer<AdminHandler>>().await;
+    tokio::time::sleep(config.drain).await;
+    let _ = stop_tx.send(());
+    match tokio::time::timeout(config.shutdown_grace, server).await {
+        Ok(joined) => joined??,
+        Err(_) => tracing::warn!(
+            grace_s = config.shutdown_grace.as_secs_f64(),
+            "in-flight calls did not finish within the grace period; stopping anyway"
+        ),
+    }
+    tracing::info!("stopped");
+    Ok(())
+}

@@ -1,0 +1,109 @@
+//! Rate tables: precomputed from a dataset's collision data on uniform log-T grids, each
+//! carrying its measured interpolation error, and cached by dataset hash, species and grid.
+//!
+//! - [`build`]: one table from an Upsilon source, with its error measured at grid midpoints.
+//! - [`sources`]: a dataset transition turned into an Upsilon source through the physics layer.
+//! - [`species`]: all tables of one species on one grid, indexed by transition.
+//! - [`cache`]: the concurrent table cache.
+
+pub mod build;
+pub mod cache;
+pub mod sources;
+pub mod species;
+
+pub use build::{UpsilonSource, build_table};
+pub use cache::{TableCache, TableKey};
+pub use species::SpeciesTables;
+
+use crate::dataset::Species;
+use ratewell_proto::rule::{LogGrid, RuleError};
+use rayon::prelude::*;
+
+/// Why a table could not be built.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+pub enum TableError {
+    /// The source gave a non-positive or non-finite Upsilon, which cannot be tabulated in log.
+    #[error("transition {upper}-{lower}: Upsilon({t_k} K) = {upsilon}: must be finite and > 0 to tabulate")]
+    NonPositiveUpsilon {
+        /// Upper level (1-based).
+        upper: u32,
+        /// Lower level (1-based).
+        lower: u32,
+        /// Temperature, K.
+        t_k: f64,
+        /// The value obtained.
+        upsilon: f64,
+    },
+    /// The transition's data could not be turned into a source.
+    #[error("{species} transition {upper}-{lower}: {message}")]
+    Source {
+        /// Species name.
+        species: String,
+        /// Upper level (1-based).
+        upper: u32,
+        /// Lower level (1-based).
+        lower: u32,
+        /// What went wrong.
+        message: String,
+    },
+    /// The physics layer refused an evaluation.
+    #[error("evaluation failed: {0}")]
+    Evaluation(String),
+    /// The evaluation rule refused the grid or table.
+    #[error(transparent)]
+    Rule(#[from] RuleError),
+}
+
+/// Builds every collisional transition's table for `species` on `grid`, in parallel.
+pub fn build_species_tables(species: &Species, grid: LogGrid) -> Result<SpeciesTables, TableError> {
+    let range = (grid.t_min_k(), grid.t_max_k());
+    let tables = species
+        .collisions
+        .par_iter()
+        .map(|transition| {
+            let ts = sources::transition_source(species, transition, range)?;
+            build_table(ts.header, grid, ts.source.as_ref()).map_err(|e| match e {
+                TableError::Evaluation(message) => TableError::Source {
+                    species: species.name.clone(),
+                    upper: transition.upper,
+                    lower: transition.lower,
+                    message,
+                },
+                other => other,
+            })
+        })
+        .collect::<Result<Vec<_>, _>>()?;
+    let cautions = cautions_for(species, &tables, &grid);
+    Ok(SpeciesTables::new(species.name.clone(), grid, tables, cautions))
+}
+
+/// Plain-language cautions for answers from these tables.
+fn cautions_for(species: &Species, tables: &[ratewell_proto::rule::RateTable], grid: &LogGrid) -> Vec<String> {
+    let mut cautions = Vec::new();
+    let approximate = tables.iter().filter(|t| t.header().approximate).count();
+    if approximate > 0 {
+        cautions.push(format!(
+            "{}: {approximate} of {} transitions use approximation formulas (Van Regemorter or semi-classical): \
+             order-of-magnitude rates, flagged APPROXIMATE; use validated data for safety-critical work",
+            species.name,
+            tables.len()
+        ));
+    }
+    let beyond = tables
+        .iter()
+        .filter(|t| {
+            let h = t.header();
+            !h.approximate && (h.source_t_min_k > grid.t_min_k() || h.source_t_max_k < grid.t_max_k())
+        })
+        .count();
+    if beyond > 0 {
+        cautions.push(format!(
+            "{}: {beyond} transitions have source data covering only part of the grid [{:.3e}, {:.3e}] K; \
+             values outside their source range are extrapolated by scaling and flagged BEYOND_SOURCE",
+            species.name,
+            grid.t_min_k(),
+            grid.t_max_k()
+        ));
+    }
+    cautions
+}

@@ -1,0 +1,176 @@
+//! Turns a dataset's collisional transition into a direct source of Upsilon(T) built on the
+//! physics layer, together with the header its table carries (weights, energy, source range).
+
+use super::{TableError, UpsilonSource};
+use crate::dataset::{CollisionData, CollisionalTransition, EstimateMethod, Species, TransitionType as DataType};
+use crate::physics::approximations::{
+    SemiClassicalEstimate, TargetCharge, hydrogenic_mean_radius_bohr, van_regemorter_upsilon,
+};
+use crate::physics::constants::{KELVIN_PER_INVERSE_CM, KELVIN_PER_RYDBERG};
+use crate::physics::maxwell::{BelowFirstPoint, CollisionStrengthTable};
+use crate::physics::scaling::{BurgessTullyScaling, ScaledUpsilon};
+use crate::physics::transition::TransitionType;
+use crate::physics::{PhysicsError, units};
+use ratewell_proto::rule::TableHeader;
+
+/// Fraction of the transition's Maxwellian weight allowed beyond the last tabulated collision
+/// energy before a temperature counts as beyond the source data: e^-5, under 1 %.
+const STRENGTH_TAIL_E_FOLDS: f64 = 5.0;
+
+/// A transition's Upsilon source and its table header.
+pub struct TransitionSource {
+    /// What the table will carry.
+    pub header: TableHeader,
+    /// Direct evaluation of Upsilon(T).
+    pub source: Box<dyn UpsilonSource + Send>,
+}
+
+/// The physics type of a dataset transition type.
+pub fn physics_type(kind: DataType) -> TransitionType {
+    match kind {
+        DataType::Allowed => TransitionType::Allowed,
+        DataType::Forbidden => TransitionType::Forbidden,
+        DataType::SpinChange => TransitionType::SpinChange,
+        DataType::WeakAllowed => TransitionType::WeakAllowed,
+    }
+}
+
+/// Builds the source of one collisional transition of `species`. `grid_range_k` is the range
+/// the table will span, used as the "source range" of approximations (they are flagged
+/// approximate instead).
+pub fn transition_source(
+    species: &Species,
+    transition: &CollisionalTransition,
+    grid_range_k: (f64, f64),
+) -> Result<TransitionSource, TableError> {
+    let (upper, lower) = (transition.upper, transition.lower);
+    let missing = |what: &str| TableError::Source {
+        species: species.name.clone(),
+        upper,
+        lower,
+        message: format!("{what} not found in the species"),
+    };
+    let level_u = species.level(upper).ok_or_else(|| missing("upper level"))?;
+    let level_l = species.level(lower).ok_or_else(|| missing("lower level"))?;
+    let delta_e_cm1 = level_u.energy_cm1 - level_l.energy_cm1;
+    let delta_e_k = delta_e_cm1 * KELVIN_PER_INVERSE_CM;
+    let delta_e_ry = units::cm1_to_ry(delta_e_cm1);
+    let weighted_f = species
+        .radiative_transition(upper, lower)
+        .and_then(|r| r.oscillator_strength)
+        .map(|f| f * level_l.weight);
+    let kind = physics_type(transition.kind);
+    let wrap = |e: PhysicsError| TableError::Source {
+        species: species.name.clone(),
+        upper,
+        lower,
+        message: e.to_string(),
+    };
+    let (source, range_k, approximate): (Box<dyn UpsilonSource + Send>, (f64, f64), bool) = match &transition.data
+    {
+        CollisionData::EffectiveTable { temperatures_k, upsilon } => {
+            let scaling = BurgessTullyScaling::new(kind, delta_e_k, None).map_err(wrap)?;
+            let curve = ScaledUpsilon::new(scaling, temperatures_k, upsilon, weighted_f).map_err(wrap)?;
+            let range = (temperatures_k[0], temperatures_k[temperatures_k.len() - 1]);
+            (Box::new(Scaled(curve)), range, false)
+        }
+        CollisionData::StrengthTable { scattered_energies_ry, omega } => {
+            let table = CollisionStrengthTable::new(
+                scattered_energies_ry,
+                omega,
+                delta_e_ry,
+                kind,
+                weighted_f,
+                BelowFirstPoint::default(),
+            )
+            .map_err(wrap)?;
+            let first_positive = scattered_energies_ry
+                .iter()
+                .copied()
+                .find(|&e| e > 0.0)
+                .unwrap_or(scattered_energies_ry[scattered_energies_ry.len() - 1]);
+            let last = scattered_energies_ry[scattered_energies_ry.len() - 1];
+            let range = (
+                first_positive * KELVIN_PER_RYDBERG,
+                (last * KELVIN_PER_RYDBERG / STRENGTH_TAIL_E_FOLDS).max(first_positive * KELVIN_PER_RYDBERG),
+            );
+            (Box::new(Averaged(table)), range, false)
+        }
+        CollisionData::Estimate(EstimateMethod::VanRegemorter {
+            oscillator_strength, ..
+        }) => {
+            let target = if species.ion_charge == 0 {
+                TargetCharge::Neutral
+            } else {
+                TargetCharge::PositiveIon
+            };
+            let source = VanRegemorter {
+                weighted_f: oscillator_strength * level_l.weight,
+                delta_e_ry,
+                target,
+            };
+            (Box::new(source), grid_range_k, true)
+        }
+        CollisionData::Estimate(EstimateMethod::CoulombFocusing { strength }) => {
+            // The lower level's binding energy is at least the transition energy (the upper
+            // level is bound), so using dE gives an upper bound on the hydrogenic radius.
+            let radius =
+                hydrogenic_mean_radius_bohr(delta_e_ry, f64::from(species.ion_charge) + 1.0).map_err(wrap)?;
+            let estimate =
+                SemiClassicalEstimate::new(level_l.weight, delta_e_ry, radius, f64::from(species.ion_charge), *strength)
+                    .map_err(wrap)?;
+            (Box::new(SemiClassical(estimate)), grid_range_k, true)
+        }
+    };
+    Ok(TransitionSource {
+        header: TableHeader {
+            upper,
+            lower,
+            g_lower: level_l.weight,
+            g_upper: level_u.weight,
+            excitation_energy_k: delta_e_k,
+            source_t_min_k: range_k.0,
+            source_t_max_k: range_k.1,
+            approximate,
+        },
+        source,
+    })
+}
+
+fn physics_failure(e: PhysicsError) -> TableError {
+    TableError::Evaluation(e.to_string())
+}
+
+struct Scaled(ScaledUpsilon);
+impl UpsilonSource for Scaled {
+    fn upsilon(&self, t_k: f64) -> Result<f64, TableError> {
+        Ok(self.0.evaluate(t_k).map_err(physics_failure)?.upsilon)
+    }
+}
+
+struct Averaged(CollisionStrengthTable);
+impl UpsilonSource for Averaged {
+    fn upsilon(&self, t_k: f64) -> Result<f64, TableError> {
+        self.0.effective_collision_strength(t_k).map_err(physics_failure)
+    }
+}
+
+struct VanRegemorter {
+    weighted_f: f64,
+    delta_e_ry: f64,
+    target: TargetCharge,
+}
+impl UpsilonSource for VanRegemorter {
+    fn upsilon(&self, t_k: f64) -> Result<f64, TableError> {
+        Ok(van_regemorter_upsilon(self.weighted_f, self.delta_e_ry, t_k, self.target)
+            .map_err(physics_failure)?
+            .value)
+    }
+}
+
+struct SemiClassical(SemiClassicalEstimate);
+impl UpsilonSource for SemiClassical {
+    fn upsilon(&self, t_k: f64) -> Result<f64, TableError> {
+        Ok(self.0.effective_collision_strength(t_k).map_err(physics_failure)?.value)
+    }
+}
