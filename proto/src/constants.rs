@@ -10,13 +10,13 @@ pub const ELEMENTARY_CHARGE_C: f64 = 1.602_176_634e-19;
 /// Speed of light in vacuum c, m s^-1 (exact).
 pub const SPEED_OF_LIGHT_M_S: f64 = 299_792_458.0;
 /// Electron mass m_e, kg (CODATA 2018).
-pub const ELECTRON_MASS_KG: f64 = 9.109_383_7015e-31;
+pub const ELECTRON_MASS_KG: f64 = 9.109_383_701_5e-31;
 /// Rydberg constant R_inf, m^-1 (CODATA 2018).
 pub const RYDBERG_PER_M: f64 = 10_973_731.568_160;
 /// Bohr radius a_0, m (CODATA 2018).
 pub const BOHR_RADIUS_M: f64 = 5.291_772_109_03e-11;
 /// Fine-structure constant alpha (CODATA 2018).
-pub const FINE_STRUCTURE: f64 = 7.297_352_5693e-3;
+pub const FINE_STRUCTURE: f64 = 7.297_352_569_3e-3;
 
 /// Rydberg energy h c R_inf, J.
 pub const RYDBERG_J: f64 = PLANCK_J_S * SPEED_OF_LIGHT_M_S * RYDBERG_PER_M;

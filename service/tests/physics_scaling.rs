@@ -59,7 +59,10 @@ fn scaled_temperature_limits_and_midpoint() {
     let s = BurgessTullyScaling::new(TransitionType::Allowed, 1.0e4, None).unwrap();
     let expected = 1.0 - 1.0 / (1.0 + std::f64::consts::E).ln();
     assert!((s.scaled_temperature(1.0e4).unwrap() - expected).abs() < 1e-15);
-    assert_eq!(default_scaling_parameter(TransitionType::Allowed), std::f64::consts::E);
+    assert_eq!(
+        default_scaling_parameter(TransitionType::Allowed),
+        std::f64::consts::E
+    );
 }
 
 /// An allowed transition's exact Upsilon(T) from an (invented) collision-strength table.
@@ -133,10 +136,17 @@ fn interpolator_approaches_the_type_1_high_temperature_limit() {
         assert!(gap < previous_gap, "u {u}: gap {gap} not shrinking");
         previous_gap = gap;
         let exact_u = exact.effective_collision_strength(t).unwrap();
-        eprintln!("u {u:e}: y/limit - 1 = {:e}, vs exact average {:e}", y / limit - 1.0, interpolated / exact_u - 1.0);
+        eprintln!(
+            "u {u:e}: y/limit - 1 = {:e}, vs exact average {:e}",
+            y / limit - 1.0,
+            interpolated / exact_u - 1.0
+        );
         assert!(rel(interpolated, exact_u) < 0.05, "u {u}");
     }
-    assert!(previous_gap < 0.01, "y at u = 1e256 is {previous_gap} from the limit");
+    assert!(
+        previous_gap < 0.01,
+        "y at u = 1e256 is {previous_gap} from the limit"
+    );
     // between and beyond the nodes the interpolant follows the exact average closely
     // (measured: the worst deviation is printed)
     let mut worst: f64 = 0.0;
@@ -156,8 +166,7 @@ fn interpolator_approaches_the_type_1_high_temperature_limit() {
 #[test]
 fn pchip_matches_scipy() {
     // reference: scipy.interpolate.PchipInterpolator (make_physics_reference.py)
-    let data: Value =
-        serde_json::from_str(include_str!("reference/physics_reference.json")).unwrap();
+    let data: Value = serde_json::from_str(include_str!("reference/physics_reference.json")).unwrap();
     let p = &data["pchip"];
     let f = |k: &str| -> Vec<f64> {
         p[k].as_array()

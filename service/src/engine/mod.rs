@@ -163,10 +163,10 @@ impl Engine {
             precompute_seconds,
         });
         let replaced = self.inner.registry.install(loaded);
-        if let Some(old) = &replaced {
-            if !self.inner.registry.holds_hash(&old.stamp.content_hash) {
-                self.inner.cache.remove_dataset(&old.stamp.content_hash);
-            }
+        if let Some(old) = &replaced
+            && !self.inner.registry.holds_hash(&old.stamp.content_hash)
+        {
+            self.inner.cache.remove_dataset(&old.stamp.content_hash);
         }
         Ok(LoadReport {
             stamp,

@@ -67,10 +67,13 @@ pub struct LoadedDataset {
     pub precompute_seconds: f64,
 }
 
+/// Versions of one dataset id, ordered by (major, minor, patch).
+type Versions = BTreeMap<(u64, u64, u64), Arc<LoadedDataset>>;
+
 /// The set of loaded datasets.
 #[derive(Default)]
 pub struct Registry {
-    by_id: RwLock<BTreeMap<String, BTreeMap<(u64, u64, u64), Arc<LoadedDataset>>>>,
+    by_id: RwLock<BTreeMap<String, Versions>>,
 }
 
 impl Registry {
@@ -113,14 +116,14 @@ impl Registry {
             Some(v) => versions.values().find(|d| &d.stamp.version == v),
         }
         .ok_or_else(unknown)?;
-        if let Some(expected) = &selector.expected_hash {
-            if expected != &found.stamp.content_hash {
-                return Err(EngineError::HashMismatch {
-                    dataset: found.stamp.label(),
-                    expected: expected.clone(),
-                    actual: found.stamp.content_hash.clone(),
-                });
-            }
+        if let Some(expected) = &selector.expected_hash
+            && expected != &found.stamp.content_hash
+        {
+            return Err(EngineError::HashMismatch {
+                dataset: found.stamp.label(),
+                expected: expected.clone(),
+                actual: found.stamp.content_hash.clone(),
+            });
         }
         Ok(Arc::clone(found))
     }

@@ -67,9 +67,10 @@ pub struct CollisionStrengthTable {
 
 impl CollisionStrengthTable {
     /// Validate and build a table. `final_energies_ry`: final electron energies, Ry, finite,
-    /// >= 0, strictly increasing; `omega`: collision strengths, finite, >= 0, same length (>= 1);
-    /// `delta_e_ry`: transition energy, Ry, > 0; `weighted_oscillator_strength`: g_l f_lu
-    /// (>= 0), used by the allowed and weak-allowed tails only.
+    /// non-negative, strictly increasing; `omega`: collision strengths, finite, non-negative,
+    /// same length (at least 1); `delta_e_ry`: transition energy, Ry, positive;
+    /// `weighted_oscillator_strength`: g_l f_lu (non-negative), used by the allowed and
+    /// weak-allowed tails only.
     pub fn new(
         final_energies_ry: &[f64],
         omega: &[f64],
@@ -78,12 +79,7 @@ impl CollisionStrengthTable {
         weighted_oscillator_strength: Option<f64>,
         below: BelowFirstPoint,
     ) -> Result<Self, PhysicsError> {
-        require_same_len(
-            "final_energies_ry",
-            final_energies_ry.len(),
-            "omega",
-            omega.len(),
-        )?;
+        require_same_len("final_energies_ry", final_energies_ry.len(), "omega", omega.len())?;
         if omega.is_empty() {
             return Err(PhysicsError::TooFewPoints {
                 field: "omega",
@@ -154,9 +150,7 @@ impl CollisionStrengthTable {
         if final_energy_ry <= e[0] {
             return Ok(match self.below {
                 BelowFirstPoint::ConstantToThreshold => w[0],
-                BelowFirstPoint::LinearFromZeroAtThreshold if e[0] > 0.0 => {
-                    w[0] * final_energy_ry / e[0]
-                }
+                BelowFirstPoint::LinearFromZeroAtThreshold if e[0] > 0.0 => w[0] * final_energy_ry / e[0],
                 BelowFirstPoint::LinearFromZeroAtThreshold => w[0],
             });
         }

@@ -6,7 +6,7 @@
 //! interpolant never leaves the range of its two end values: no overshoot, and positive data
 //! give a positive interpolant.
 
-use super::error::{PhysicsError, require_increasing, require_same_len};
+use super::error::{PhysicsError, require_same_len};
 
 /// A PCHIP interpolant through points (x_i, y_i) with strictly increasing x.
 #[derive(Debug, Clone, PartialEq)]
@@ -38,9 +38,16 @@ impl Pchip {
                 });
             }
         }
-        // shift by x[0] only for the increasing check (allows negative x)
-        let shifted: Vec<f64> = x.iter().map(|&v| v - x[0]).collect();
-        require_increasing(&shifted, "x - x[0]", "", false)?;
+        for i in 1..x.len() {
+            if x[i] <= x[i - 1] {
+                return Err(PhysicsError::NotIncreasing {
+                    field: format!("x[{i}]"),
+                    value: x[i],
+                    previous: x[i - 1],
+                    unit: "",
+                });
+            }
+        }
         for (i, &v) in y.iter().enumerate() {
             if !v.is_finite() {
                 return Err(PhysicsError::OutOfRange {
@@ -61,6 +68,27 @@ impl Pchip {
     /// The first and last abscissa.
     pub fn x_range(&self) -> (f64, f64) {
         (self.x[0], self.x[self.x.len() - 1])
+    }
+
+    /// The interpolant at `x`; outside the data range a positive end value is continued as
+    /// y_end exp((m_end / y_end)(x - x_end)), which matches the end value and slope (so the
+    /// curve stays continuously differentiable, with no kink for a table to smooth over) and
+    /// stays positive; a non-positive end value is held constant. NaN in, NaN out.
+    pub fn evaluate_continued(&self, x: f64) -> f64 {
+        let n = self.x.len();
+        let end = if x < self.x[0] {
+            0
+        } else if x > self.x[n - 1] {
+            n - 1
+        } else {
+            return self.evaluate(x);
+        };
+        let (y_end, m_end) = (self.y[end], self.slopes[end]);
+        if y_end > 0.0 {
+            y_end * ((m_end / y_end) * (x - self.x[end])).exp()
+        } else {
+            y_end
+        }
     }
 
     /// The interpolant at `x`; outside the data range it returns the nearest end value
@@ -131,6 +159,16 @@ fn end_slope(h0: f64, h1: f64, m0: f64, m1: f64) -> f64 {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn rejects_unordered_abscissae() {
+        // common practice, no source
+        let err = Pchip::new(&[-1.0, 0.5, 0.5], &[1.0, 2.0, 3.0]).unwrap_err();
+        assert_eq!(
+            err.to_string(),
+            "x[2] = 0.5: must be > the previous value 0.5 (strictly increasing)"
+        );
+    }
 
     #[test]
     fn reproduces_nodes_and_stays_monotone() {

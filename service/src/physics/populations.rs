@@ -165,13 +165,7 @@ impl PopulationWorkspace {
         Ok(())
     }
 
-    fn check_pair(
-        &self,
-        list: &str,
-        i: usize,
-        upper: usize,
-        lower: usize,
-    ) -> Result<(), PhysicsError> {
+    fn check_pair(&self, list: &str, i: usize, upper: usize, lower: usize) -> Result<(), PhysicsError> {
         for (name, level) in [("upper", upper), ("lower", lower)] {
             if level >= self.n {
                 return Err(PhysicsError::LevelOutOfRange {
@@ -203,10 +197,7 @@ impl PopulationWorkspace {
         }
         self.assemble(ne_cm3)?;
 
-        let mut storage = self
-            .factor_storage
-            .take()
-            .unwrap_or_else(|| DMatrix::zeros(n, n));
+        let mut storage = self.factor_storage.take().unwrap_or_else(|| DMatrix::zeros(n, n));
         storage.copy_from(&self.system);
         let lu = storage.lu();
         self.solution.fill(0.0);
@@ -221,7 +212,12 @@ impl PopulationWorkspace {
             self.solution += &self.correction;
         }
         self.factor_storage = Some(lu.l_unpack());
-        if !ok || self.solution.iter().any(|v| !v.is_finite() || v.abs() > 1.0 + 1.0e-6) {
+        if !ok
+            || self
+                .solution
+                .iter()
+                .any(|v| !v.is_finite() || v.abs() > 1.0 + 1.0e-6)
+        {
             return Err(PhysicsError::SingularSystem { ne_cm3 });
         }
 
@@ -263,15 +259,13 @@ impl PopulationWorkspace {
             if d > 0.0 {
                 for k in 0..n {
                     if k != j {
-                        let inflow =
-                            self.radiative[(k, j)] + ne_cm3 * self.collisional[(k, j)];
+                        let inflow = self.radiative[(k, j)] + ne_cm3 * self.collisional[(k, j)];
                         self.system[(j, k)] = -inflow / d;
                     }
                 }
             } else {
-                let fed = (0..n).any(|k| {
-                    k != j && self.radiative[(k, j)] + ne_cm3 * self.collisional[(k, j)] > 0.0
-                });
+                let fed = (0..n)
+                    .any(|k| k != j && self.radiative[(k, j)] + ne_cm3 * self.collisional[(k, j)] > 0.0);
                 if fed {
                     return Err(PhysicsError::NoDepopulation { level: j, ne_cm3 });
                 }
@@ -291,8 +285,8 @@ impl PopulationWorkspace {
             let mut inflow = 0.0;
             for k in 0..n {
                 if k != j {
-                    inflow += self.fractions[k]
-                        * (self.radiative[(k, j)] + ne_cm3 * self.collisional[(k, j)]);
+                    inflow +=
+                        self.fractions[k] * (self.radiative[(k, j)] + ne_cm3 * self.collisional[(k, j)]);
                 }
             }
             let scale = inflow + out;

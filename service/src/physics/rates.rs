@@ -44,10 +44,7 @@ mod tests {
     fn rejects_bad_input_with_named_field() {
         // common practice, no source: temperatures must be positive
         let err = deexcitation_rate_cm3_s(1.0, 2.0, -5.0).unwrap_err();
-        assert_eq!(
-            err.to_string(),
-            "temperature_k = -5 K: must be > 0 and finite"
-        );
+        assert_eq!(err.to_string(), "temperature_k = -5 K: must be > 0 and finite");
         assert!(excitation_rate_cm3_s(1.0, 0.0, 2.0, 1.0, 1.0e4).is_err());
         assert!(excitation_rate_cm3_s(f64::NAN, 1.0, 2.0, 1.0, 1.0e4).is_err());
     }

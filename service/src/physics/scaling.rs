@@ -17,10 +17,13 @@
 //! a fixed y(1) = 0 would force Upsilon to fall faster than 1/T, against the E^-2 law).
 //!
 //! Interpolation: [`ScaledUpsilon`] runs a PCHIP through the scaled points (plus the x = 1
-//! limit point for types 1 and 4 when g_l f is given) and keeps y constant beyond the first and
-//! last node. Below the lowest tabulated T that means (types 1-3) Upsilon tends to the constant
-//! y(x_min) as T -> 0; above the highest T without a limit point it means the high-T law of each
-//! type: Bethe ln(u + e) growth (types 1, 4), constant (type 2), 1/(u + 1) fall (type 3).
+//! limit point for types 1 and 4 when g_l f is given). Beyond the first and last node y is
+//! continued as y_end exp((y'_end / y_end)(x - x_end)): it matches value and slope at the node
+//! (no kink, so tables built on it interpolate smoothly), stays positive, and, since x is
+//! bounded by 0 and 1, stays bounded. With a flat end this is the constant-y continuation:
+//! below the lowest tabulated T Upsilon tends to a constant as T -> 0 (types 1-3); above the
+//! highest T without a limit point it gives the high-T law of each type: Bethe ln(u + e)
+//! growth (types 1, 4), constant (type 2), 1/(u + 1) fall (type 3). Our choice.
 
 use super::constants::KELVIN_PER_RYDBERG;
 use super::error::{
@@ -66,11 +69,7 @@ impl BurgessTullyScaling {
         } else {
             require_positive(c, "", || "scaling_parameter".to_owned())?;
         }
-        Ok(Self {
-            kind,
-            delta_e_k,
-            c,
-        })
+        Ok(Self { kind, delta_e_k, c })
     }
 
     /// The transition type.
@@ -161,11 +160,12 @@ impl BurgessTullyScaling {
 pub enum Coverage {
     /// Within [lowest, highest] tabulated temperature: interpolated.
     Inside,
-    /// Below the lowest tabulated temperature: extrapolated with y held constant.
+    /// Below the lowest tabulated temperature: extrapolated (smooth continuation of y).
     BelowData,
     /// Above the highest tabulated temperature, interpolated toward the known x = 1 limit.
     AboveDataTowardLimit,
-    /// Above the highest tabulated temperature with no known limit: y held constant.
+    /// Above the highest tabulated temperature with no known limit: extrapolated (smooth
+    /// continuation of y).
     AboveData,
 }
 
@@ -199,12 +199,7 @@ impl ScaledUpsilon {
         upsilon: &[f64],
         weighted_oscillator_strength: Option<f64>,
     ) -> Result<Self, PhysicsError> {
-        require_same_len(
-            "temperatures_k",
-            temperatures_k.len(),
-            "upsilon",
-            upsilon.len(),
-        )?;
+        require_same_len("temperatures_k", temperatures_k.len(), "upsilon", upsilon.len())?;
         if upsilon.is_empty() {
             return Err(PhysicsError::TooFewPoints {
                 field: "upsilon",
@@ -221,15 +216,13 @@ impl ScaledUpsilon {
         for (i, (&t, &u)) in temperatures_k.iter().zip(upsilon).enumerate() {
             require_non_negative(u, "", || format!("upsilon[{i}]"))?;
             let x = scaling.scaled_temperature(t)?;
-            if let Some(&prev) = xs.last() {
-                if x <= prev {
-                    return Err(PhysicsError::OutOfRange {
-                        field: format!("temperatures_k[{i}]"),
-                        value: t,
-                        unit: "K",
-                        allowed: "far enough from the previous temperature to scale to a distinct x",
-                    });
-                }
+            if xs.last().is_some_and(|&prev| x <= prev) {
+                return Err(PhysicsError::OutOfRange {
+                    field: format!("temperatures_k[{i}]"),
+                    value: t,
+                    unit: "K",
+                    allowed: "far enough from the previous temperature to scale to a distinct x",
+                });
             }
             xs.push(x);
             ys.push(scaling.scaled_upsilon(u, t)?);
@@ -271,7 +264,7 @@ impl ScaledUpsilon {
         } else {
             Coverage::AboveData
         };
-        let y = self.curve.evaluate(x).max(0.0);
+        let y = self.curve.evaluate_continued(x).max(0.0);
         Ok(ScaledEvaluation {
             upsilon: self.scaling.upsilon_from_scaled(y, t_k)?,
             coverage,
@@ -287,7 +280,10 @@ mod tests {
     fn rejects_c_not_above_one_for_allowed() {
         // derived in the module doc: ln(u + C) must stay positive for all u >= 0
         let err = BurgessTullyScaling::new(TransitionType::Allowed, 1.0e4, Some(0.5)).unwrap_err();
-        assert!(err.to_string().starts_with("scaling_parameter = 0.5: must be > 1"));
+        assert!(
+            err.to_string()
+                .starts_with("scaling_parameter = 0.5: must be > 1")
+        );
         assert!(BurgessTullyScaling::new(TransitionType::Forbidden, 1.0e4, Some(0.5)).is_ok());
     }
 }

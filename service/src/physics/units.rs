@@ -4,8 +4,7 @@
 //! Temperature equivalents (`*_to_k`, `k_to_*`) convert an energy E to E/k in kelvin.
 
 use super::constants::{
-    ELECTRON_VOLT_J, INVERSE_CM_J, KELVIN_PER_EV, KELVIN_PER_INVERSE_CM, KELVIN_PER_RYDBERG,
-    RYDBERG_J,
+    ELECTRON_VOLT_J, INVERSE_CM_J, KELVIN_PER_EV, KELVIN_PER_INVERSE_CM, KELVIN_PER_RYDBERG, RYDBERG_J,
 };
 
 /// Centimetres per metre.
@@ -150,7 +149,8 @@ mod tests {
     fn conversions_invert_each_other() {
         // common practice, no source: a conversion followed by its inverse is the identity
         for &x in &[1.0e-3, 1.0, 12345.678, 1.0e7] {
-            let pairs: [(fn(f64) -> f64, fn(f64) -> f64); 10] = [
+            type Conversion = fn(f64) -> f64;
+            let pairs: [(Conversion, Conversion); 10] = [
                 (ev_to_k, k_to_ev),
                 (cm1_to_k, k_to_cm1),
                 (ry_to_k, k_to_ry),

@@ -135,19 +135,24 @@ def bethe_from_threshold():
 
 
 # ---------------------------------------------------------------- Van Regemorter
+def ion_join(bethe):
+    """The smooth p-norm join (p = 4) of the Bethe form and the 0.2 ion floor."""
+    return (bethe ** 4 + mp.mpf("0.2") ** 4) ** (mp.mpf(1) / 4)
+
+
 def van_regemorter():
     ys = [1e-3, 0.01, 0.02, 0.04, 0.1, 0.2, 0.4, 1.0, 2.0, 4.0, 10.0, 100.0]
     p = []
     for y in ys:
         bethe = mp.sqrt(3) / (2 * mp.pi) * mp.exp(y) * mp.e1(y)
-        p.append({"y": y, "neutral": f(bethe), "ion": f(max(bethe, mp.mpf("0.2")))})
+        p.append({"y": y, "neutral": f(bethe), "ion": f(ion_join(bethe))})
     ups = []
     for gf, de, tk in [(0.3, 0.7, 1e4), (1.2, 0.1, 5e3), (0.05, 2.0, 1e6)]:
         y = mp.mpf(de) * KELVIN_PER_RYDBERG / mp.mpf(tk)
         bethe = mp.sqrt(3) / (2 * mp.pi) * mp.exp(y) * mp.e1(y)
         pre = 8 * mp.pi / mp.sqrt(3) * mp.mpf(gf) / mp.mpf(de)
         ups.append({"gf": gf, "delta_e_ry": de, "t_k": tk,
-                    "neutral": f(pre * bethe), "ion": f(pre * max(bethe, mp.mpf("0.2")))})
+                    "neutral": f(pre * bethe), "ion": f(pre * ion_join(bethe))})
     return {"gaunt_factor": p, "upsilon": ups}
 
 
