@@ -35,8 +35,7 @@ pub struct Client {
 
 fn inside_runtime() -> ClientError {
     ClientError::Runtime(
-        "blocking::Client cannot be used inside an async runtime; use ratewell_client::Client"
-            .into(),
+        "blocking::Client cannot be used inside an async runtime; use ratewell_client::Client".into(),
     )
 }
 

@@ -50,10 +50,7 @@ impl TableCache {
 
     /// Forgets every cached table set (the next fetch asks the server again).
     pub(crate) fn clear(&self) {
-        self.slots
-            .lock()
-            .unwrap_or_else(PoisonError::into_inner)
-            .clear();
+        self.slots.lock().unwrap_or_else(PoisonError::into_inner).clear();
     }
 
     /// Number of table sets held.
@@ -114,7 +111,9 @@ mod tests {
         assert!(err.is_err());
         assert_eq!(cache.len(), 1);
         let again = cache
-            .get_or_fetch(key("Y"), || async { LocalTables::from_wire(invented_response("ab")) })
+            .get_or_fetch(key("Y"), || async {
+                LocalTables::from_wire(invented_response("ab"))
+            })
             .await;
         assert!(again.is_ok());
         assert_eq!(cache.len(), 2);

@@ -84,8 +84,7 @@ impl Client {
         config.validate()?;
         tokio::runtime::Handle::try_current().map_err(|_| {
             ClientError::Runtime(
-                "Client::new needs a running tokio runtime; use blocking::Client in synchronous code"
-                    .into(),
+                "Client::new needs a running tokio runtime; use blocking::Client in synchronous code".into(),
             )
         })?;
         let pool = Pool::new(&config)?;
@@ -159,46 +158,51 @@ impl Client {
         let policy = &config.retry;
         let started = Instant::now();
         let mut failures = 0u32;
+        // The last real failure, reported if the overall deadline cuts a retry short.
+        let mut last: Option<ClientError> = None;
+        let refine = |address: &str, status: &Status| match dataset {
+            Some(d) => d.refine_status(operation, address, status),
+            None => ClientError::from_status(operation, address, status),
+        };
         loop {
             let remaining = policy.deadline.saturating_sub(started.elapsed());
             let budget = config.call_timeout.min(remaining);
+            let cut_short = budget < config.call_timeout;
+            let timed_out = |last: Option<ClientError>, after| match last {
+                Some(previous) if cut_short => previous,
+                _ => ClientError::Timeout { operation, after },
+            };
             if budget.is_zero() {
-                return Err(ClientError::Timeout {
-                    operation,
-                    after: policy.deadline,
-                });
+                return Err(timed_out(last, policy.deadline));
             }
             let (index, address, channel) = self.inner.pool.current();
+            let attempt_started = Instant::now();
             let status = match tokio::time::timeout(budget, attempt(channel, budget)).await {
                 Ok(Ok(value)) => return Ok(value),
                 Ok(Err(status)) => status,
-                Err(_) => {
-                    return Err(ClientError::Timeout {
-                        operation,
-                        after: budget,
-                    });
-                }
+                Err(_) => return Err(timed_out(last, budget)),
             };
             let code = status.code();
-            if is_retryable(code) {
+            // A server deadline firing first: DEADLINE_EXCEEDED, or tonic's server answer
+            // CANCELLED "Timeout expired" when the budget is all but spent.
+            let budget_spent = attempt_started.elapsed() >= budget.mul_f64(0.9);
+            if code == Code::DeadlineExceeded || (code == Code::Cancelled && budget_spent) {
+                return Err(timed_out(last, budget));
+            }
+            let retryable = is_retryable(&status);
+            if retryable {
                 self.inner.pool.fail_over(index);
             }
             failures += 1;
             let wait = policy.jittered_backoff(failures - 1);
             let may_retry = retry == Retry::Idempotent
-                && is_retryable(code)
+                && retryable
                 && failures < policy.max_attempts
                 && started.elapsed() + wait < policy.deadline;
             if !may_retry {
-                return Err(match (code, dataset) {
-                    (Code::DeadlineExceeded, _) => ClientError::Timeout {
-                        operation,
-                        after: budget,
-                    },
-                    (_, Some(d)) => d.refine_status(operation, address, &status),
-                    (_, None) => ClientError::from_status(operation, address, &status),
-                });
+                return Err(refine(address, &status));
             }
+            last = Some(refine(address, &status));
             tokio::time::sleep(wait).await;
         }
     }
@@ -335,12 +339,7 @@ impl Client {
             })
             .await?;
         let stamp = dataset.check_stamp("LookupRates", response.stamp.as_ref())?;
-        RateLookup::from_wire(
-            response,
-            stamp,
-            query.temperatures.len(),
-            query.options.direction,
-        )
+        RateLookup::from_wire(response, stamp, query.temperatures.len(), query.options.direction)
     }
 
     /// Rate coefficients for a very large batch: the temperatures are split into messages of
@@ -359,12 +358,8 @@ impl Client {
             p => p,
         };
         let total = query.temperatures.len();
-        let ranges: Arc<Vec<std::ops::Range<usize>>> = Arc::new(
-            (0..total)
-                .step_by(per)
-                .map(|s| s..(s + per).min(total))
-                .collect(),
-        );
+        let ranges: Arc<Vec<std::ops::Range<usize>>> =
+            Arc::new((0..total).step_by(per).map(|s| s..(s + per).min(total)).collect());
         let shared = Arc::new((query.clone(), dataset.clone()));
         let n = self.max_bytes();
         let responses = self
@@ -376,8 +371,7 @@ impl Client {
                     let (shared, ranges) = (shared.clone(), ranges.clone());
                     async move {
                         let outgoing = futures::stream::iter(
-                            (0..ranges.len())
-                                .map(move |i| shared.0.to_wire(&shared.1, ranges[i].clone())),
+                            (0..ranges.len()).map(move |i| shared.0.to_wire(&shared.1, ranges[i].clone())),
                         );
                         let mut c = RatesClient::new(ch)
                             .max_decoding_message_size(n)

@@ -57,10 +57,7 @@ pub fn relative_difference(a: f64, b: f64) -> f64 {
 
 /// Compares every common transition at the first set's knots and interval midpoints that lie
 /// inside both grids.
-pub fn compare_tables(
-    first: &LocalTables,
-    second: &LocalTables,
-) -> Result<LocalComparison, ClientError> {
+pub fn compare_tables(first: &LocalTables, second: &LocalTables) -> Result<LocalComparison, ClientError> {
     if first.species() != second.species() {
         return Err(ClientError::invalid(
             "species",
@@ -72,11 +69,13 @@ pub fn compare_tables(
     let temperatures: Vec<f64> = (0..g.knots())
         .flat_map(|i| {
             let knot = g.temperature_k(i);
-            (i + 1 < g.knots()).then(|| g.midpoint_k(i)).into_iter().chain([knot]).rev()
+            (i + 1 < g.knots())
+                .then(|| g.midpoint_k(i))
+                .into_iter()
+                .chain([knot])
+                .rev()
         })
-        .filter(|&t| {
-            g.locate(t).side == Side::Inside && second.grid().locate(t).side == Side::Inside
-        })
+        .filter(|&t| g.locate(t).side == Side::Inside && second.grid().locate(t).side == Side::Inside)
         .collect();
     if temperatures.is_empty() {
         return Err(ClientError::invalid(
@@ -111,7 +110,11 @@ pub fn compare_tables(
         for (name, a, b) in [
             ("g_lower", h1.g_lower, h2.g_lower),
             ("g_upper", h1.g_upper, h2.g_upper),
-            ("excitation_energy_k", h1.excitation_energy_k, h2.excitation_energy_k),
+            (
+                "excitation_energy_k",
+                h1.excitation_energy_k,
+                h2.excitation_energy_k,
+            ),
         ] {
             if a != b {
                 out.header_mismatches.push(format!("{tr} {name}: {a} vs {b}"));

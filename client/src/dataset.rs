@@ -104,14 +104,13 @@ impl DatasetRef {
                 message: format!("asked for {self}, answer is from {}", stamp_label(stamp)),
             });
         }
-        if let Some(expected) = &self.pinned_content_hash {
-            if !stamp.content_hash.eq_ignore_ascii_case(expected) {
-                return Err(ClientError::HashMismatch {
-                    expected: expected.clone(),
-                    got: stamp.content_hash.clone(),
-                    dataset: stamp_label(stamp),
-                });
-            }
+        let differs = |expected: &&String| !stamp.content_hash.eq_ignore_ascii_case(expected);
+        if let Some(expected) = self.pinned_content_hash.as_ref().filter(differs) {
+            return Err(ClientError::HashMismatch {
+                expected: expected.clone(),
+                got: stamp.content_hash.clone(),
+                dataset: stamp_label(stamp),
+            });
         }
         Ok(stamp.clone())
     }
@@ -229,7 +228,11 @@ mod tests {
 
     #[test]
     fn selector_carries_the_pin() {
-        let r = DatasetRef::new("demo").unwrap().with_version("1.0.0").pinned(H1).unwrap();
+        let r = DatasetRef::new("demo")
+            .unwrap()
+            .with_version("1.0.0")
+            .pinned(H1)
+            .unwrap();
         let s = r.to_selector();
         assert_eq!((s.id.as_str(), s.version.as_str()), ("demo", "1.0.0"));
         assert_eq!(s.expected_content_hash, H1);
@@ -241,9 +244,15 @@ mod tests {
     #[test]
     fn a_different_hash_is_refused_with_both_hashes() {
         let r = DatasetRef::new("demo").unwrap().pinned(H1).unwrap();
-        let err = r.check_stamp("FetchTables", Some(&stamp("demo", "1.1.0", H2))).unwrap_err();
+        let err = r
+            .check_stamp("FetchTables", Some(&stamp("demo", "1.1.0", H2)))
+            .unwrap_err();
         match err {
-            ClientError::HashMismatch { expected, got, dataset } => {
+            ClientError::HashMismatch {
+                expected,
+                got,
+                dataset,
+            } => {
                 assert_eq!((expected.as_str(), got.as_str()), (H1, H2));
                 assert_eq!(dataset, "demo@1.1.0");
             }
@@ -265,7 +274,10 @@ mod tests {
             r.check_stamp("X", Some(&stamp("demo", "1.1.0", H1))),
             Err(ClientError::StampMismatch { .. })
         ));
-        assert!(matches!(r.check_stamp("X", None), Err(ClientError::StampMismatch { .. })));
+        assert!(matches!(
+            r.check_stamp("X", None),
+            Err(ClientError::StampMismatch { .. })
+        ));
         // Unpinned and newest: any hash and version of the right id passes.
         let newest = DatasetRef::new("demo").unwrap();
         assert!(newest.check_stamp("X", Some(&stamp("demo", "9", H2))).is_ok());
@@ -281,7 +293,10 @@ mod tests {
         assert!("@1.0".parse::<DatasetRef>().is_err());
         assert!("demo@".parse::<DatasetRef>().is_err());
         let e = "demo#abc".parse::<DatasetRef>().unwrap_err().to_string();
-        assert!(e.starts_with("pin-hash = \"abc\": must be 64 hexadecimal digits"), "{e}");
+        assert!(
+            e.starts_with("pin-hash = \"abc\": must be 64 hexadecimal digits"),
+            "{e}"
+        );
     }
 
     #[test]

@@ -20,9 +20,7 @@ pub enum ClientError {
     },
     /// A response came from a dataset whose content hash differs from the pinned one.
     /// The answer is discarded.
-    #[error(
-        "dataset {dataset}: content hash {got} differs from the pinned {expected}; answer refused"
-    )]
+    #[error("dataset {dataset}: content hash {got} differs from the pinned {expected}; answer refused")]
     HashMismatch {
         /// The pinned content hash.
         expected: String,
@@ -77,7 +75,7 @@ pub enum ClientError {
     /// A bad argument, caught before anything was sent.
     #[error("{field} = {value}: {allowed}")]
     InvalidArgument {
-        /// The argument's name (with index for arrays, e.g. "temperature[3]").
+        /// The argument's name (with index for arrays, e.g. `temperature[3]`).
         field: String,
         /// The offending value, with its unit where it has one.
         value: String,
@@ -127,11 +125,7 @@ impl ClientError {
     }
 
     /// A status from a call, kept with the call's name.
-    pub(crate) fn from_status(
-        operation: &'static str,
-        endpoint: &str,
-        status: &tonic::Status,
-    ) -> Self {
+    pub(crate) fn from_status(operation: &'static str, endpoint: &str, status: &tonic::Status) -> Self {
         ClientError::Status {
             operation,
             endpoint: endpoint.to_string(),
@@ -156,6 +150,9 @@ mod tests {
             dataset: "demo@1.0.0".into(),
         };
         let s = e.to_string();
-        assert!(s.contains("demo@1.0.0") && s.contains("aa") && s.contains("bb"), "{s}");
+        assert!(
+            s.contains("demo@1.0.0") && s.contains("aa") && s.contains("bb"),
+            "{s}"
+        );
     }
 }

@@ -68,4 +68,4 @@ pub use units::{DensityUnit, EnergyUnit, PowerUnit, RateUnit, TemperatureUnit};
 /// The wire contract (generated messages), for the answers returned as wire types.
 pub use ratewell_proto::pb;
 /// The evaluation rule's types used in this API.
-pub use ratewell_proto::rule::{Direction, OutsidePolicy, RateValue, flags};
+pub use ratewell_proto::rule::{Direction, LogGrid, OutsidePolicy, RateTable, RateValue, TableHeader, flags};

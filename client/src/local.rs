@@ -213,12 +213,7 @@ impl LocalTables {
             ));
         }
         let mut out = RateBuffers::default();
-        self.evaluate_into(
-            &query.transitions,
-            &query.temperatures,
-            query.options,
-            &mut out,
-        )?;
+        self.evaluate_into(&query.transitions, &query.temperatures, query.options, &mut out)?;
         let transitions = if query.transitions.is_empty() {
             self.transitions()
         } else {
@@ -333,7 +328,10 @@ pub(crate) mod tests {
         for (j, &e) in temps_ev.iter().enumerate() {
             let v = table.evaluate(e * KELVIN_PER_EV, OutsidePolicy::Refuse).unwrap();
             // 1 cm^3 = 1e-6 m^3 (SI definition of the metre and centimetre).
-            assert_eq!(out.deexcitation[j].to_bits(), (v.deexcitation_cm3_s * 1e-6).to_bits());
+            assert_eq!(
+                out.deexcitation[j].to_bits(),
+                (v.deexcitation_cm3_s * 1e-6).to_bits()
+            );
         }
     }
 
@@ -344,7 +342,11 @@ pub(crate) mod tests {
         let err = t
             .evaluate_into(&[], &[5e3, 2e7], EvalOptions::default(), &mut out)
             .unwrap_err();
-        assert!(err.to_string().starts_with("temperature[1] = 20000000 K: outside the table grid"), "{err}");
+        assert!(
+            err.to_string()
+                .starts_with("temperature[1] = 20000000 K: outside the table grid"),
+            "{err}"
+        );
         let opts = EvalOptions {
             outside: OutsidePolicy::Extrapolate,
             ..EvalOptions::default()
@@ -365,14 +367,24 @@ pub(crate) mod tests {
         let t = tables();
         let mut out = RateBuffers::default();
         let err = t
-            .evaluate_into(&["4-1".parse().unwrap()], &[1e4], EvalOptions::default(), &mut out)
+            .evaluate_into(
+                &["4-1".parse().unwrap()],
+                &[1e4],
+                EvalOptions::default(),
+                &mut out,
+            )
             .unwrap_err();
         assert_eq!(
             err.to_string(),
             "species X: no rate table for transition 4-1 in dataset demo@1.0.0"
         );
         let q = RateQuery::new("Y", vec![1e4]);
-        assert!(t.evaluate(&q).unwrap_err().to_string().starts_with("species = \"Y\""));
+        assert!(
+            t.evaluate(&q)
+                .unwrap_err()
+                .to_string()
+                .starts_with("species = \"Y\"")
+        );
         let l = t.evaluate(&RateQuery::new("X", vec![1e4, 2e4])).unwrap();
         assert_eq!(l.transitions.len(), 3);
         assert_eq!(l.temperature_count, 2);
@@ -382,7 +394,12 @@ pub(crate) mod tests {
     fn malformed_answers_are_refused() {
         let mut r = invented_response("ab");
         r.tables.push(r.tables[0].clone());
-        assert!(LocalTables::from_wire(r).unwrap_err().to_string().contains("appears twice"));
+        assert!(
+            LocalTables::from_wire(r)
+                .unwrap_err()
+                .to_string()
+                .contains("appears twice")
+        );
         let mut r = invented_response("ab");
         r.tables[0].slopes.pop();
         assert!(matches!(LocalTables::from_wire(r), Err(ClientError::Rule(_))));

@@ -39,7 +39,7 @@ impl PopulationQuery {
         Self::with_layout(species.into(), temperatures_k, densities_cm3, true)
     }
 
-    /// Pairs (temperatures_k[i], densities_cm3[i]); the two arrays must have equal length.
+    /// Pairs (`temperatures_k[i]`, `densities_cm3[i]`); the two arrays must have equal length.
     pub fn points(species: impl Into<String>, temperatures_k: Vec<f64>, densities_cm3: Vec<f64>) -> Self {
         Self::with_layout(species.into(), temperatures_k, densities_cm3, false)
     }
@@ -248,7 +248,12 @@ mod tests {
         assert!(check_answer(&a, 1).is_ok());
         assert!(check_answer(&a, 2).is_err());
         a.critical_densities_per_cm3.pop();
-        assert!(check_answer(&a, 1).unwrap_err().to_string().contains("critical densities"));
+        assert!(
+            check_answer(&a, 1)
+                .unwrap_err()
+                .to_string()
+                .contains("critical densities")
+        );
         let b = pb::SolvePopulationsResponse {
             points: vec![point],
             critical_densities_per_cm3: vec![0.0, 2e3],

@@ -308,7 +308,10 @@ mod tests {
     }
 
     fn lookup(n_temp: usize, base: f64) -> RateLookup {
-        let transitions = vec![Transition { upper: 2, lower: 1 }, Transition { upper: 3, lower: 1 }];
+        let transitions = vec![
+            Transition { upper: 2, lower: 1 },
+            Transition { upper: 3, lower: 1 },
+        ];
         let n = transitions.len() * n_temp;
         RateLookup {
             stamp: stamp(),
@@ -330,7 +333,10 @@ mod tests {
         let b = lookup(3, 10.0); // rows [10, 11, 12], [13, 14, 15]
         a.append_temperatures(b).unwrap();
         assert_eq!(a.temperature_count, 5);
-        assert_eq!(a.excitation, vec![0.0, 1.0, 10.0, 11.0, 12.0, 2.0, 3.0, 13.0, 14.0, 15.0]);
+        assert_eq!(
+            a.excitation,
+            vec![0.0, 1.0, 10.0, 11.0, 12.0, 2.0, 3.0, 13.0, 14.0, 15.0]
+        );
         assert!(a.deexcitation.is_empty());
         assert_eq!(a.index(1, 2), 7);
         assert_eq!(a.excitation[a.index(1, 2)], 13.0);
@@ -350,7 +356,10 @@ mod tests {
             cautions: vec![],
         };
         let err = RateLookup::from_wire(resp.clone(), stamp(), 2, Direction::Both).unwrap_err();
-        assert!(err.to_string().contains("deexcitation has 1 values, expected 2"), "{err}");
+        assert!(
+            err.to_string().contains("deexcitation has 1 values, expected 2"),
+            "{err}"
+        );
         let ok = RateLookup::from_wire(resp.clone(), stamp(), 2, Direction::Excitation).unwrap();
         assert!(ok.deexcitation.is_empty());
         assert!(RateLookup::from_wire(resp, stamp(), 3, Direction::Excitation).is_err());

@@ -35,11 +35,18 @@ impl Default for RetryPolicy {
     }
 }
 
-/// Whether a failure with this status code is worth another attempt. Only UNAVAILABLE (the
-/// server or the connection is not there right now) and RESOURCE_EXHAUSTED (load shedding)
-/// are: every other code is an answer that will not change by asking again.
-pub fn is_retryable(code: Code) -> bool {
-    matches!(code, Code::Unavailable | Code::ResourceExhausted)
+/// Whether a failure is worth another attempt. UNAVAILABLE (the server or the connection is
+/// not there right now) always is; RESOURCE_EXHAUSTED only when the server attached a retry
+/// hint (google.rpc.RetryInfo), which it does when it sheds load. A batch over a configured
+/// limit is also RESOURCE_EXHAUSTED but carries no hint: asking again would not help. Every
+/// other code is an answer that will not change by asking again.
+pub fn is_retryable(status: &tonic::Status) -> bool {
+    use tonic_types::StatusExt;
+    match status.code() {
+        Code::Unavailable => true,
+        Code::ResourceExhausted => status.get_details_retry_info().is_some(),
+        _ => false,
+    }
 }
 
 impl RetryPolicy {
@@ -63,11 +70,7 @@ impl RetryPolicy {
     pub fn validate(&self) -> Result<(), crate::ClientError> {
         use crate::ClientError;
         if self.max_attempts == 0 {
-            return Err(ClientError::invalid(
-                "retry.max_attempts",
-                0,
-                "must be >= 1",
-            ));
+            return Err(ClientError::invalid("retry.max_attempts", 0, "must be >= 1"));
         }
         if !self.multiplier.is_finite() || self.multiplier < 1.0 {
             return Err(ClientError::invalid(
@@ -84,11 +87,7 @@ impl RetryPolicy {
             ));
         }
         if self.deadline.is_zero() {
-            return Err(ClientError::invalid(
-                "retry.deadline",
-                "0 s",
-                "must be > 0",
-            ));
+            return Err(ClientError::invalid("retry.deadline", "0 s", "must be > 0"));
         }
         if self.max_backoff < self.initial_backoff {
             return Err(ClientError::invalid(
@@ -136,15 +135,28 @@ mod tests {
             let top = p.backoff(r, 0.0);
             for _ in 0..200 {
                 let w = p.jittered_backoff(r);
-                assert!(w <= top && w >= top / 2, "retry {r}: {w:?} outside [{:?}, {top:?}]", top / 2);
+                assert!(
+                    w <= top && w >= top / 2,
+                    "retry {r}: {w:?} outside [{:?}, {top:?}]",
+                    top / 2
+                );
             }
         }
     }
 
     #[test]
     fn only_transient_codes_are_retried() {
-        assert!(is_retryable(Code::Unavailable));
-        assert!(is_retryable(Code::ResourceExhausted));
+        use tonic::Status;
+        use tonic_types::{ErrorDetails, StatusExt};
+        assert!(is_retryable(&Status::unavailable("down")));
+        let shed = Status::with_error_details(
+            Code::ResourceExhausted,
+            "busy",
+            ErrorDetails::with_retry_info(Some(Duration::from_millis(50))),
+        );
+        assert!(is_retryable(&shed));
+        // Over a configured limit: no hint, no retry.
+        assert!(!is_retryable(&Status::resource_exhausted("batch too large")));
         for code in [
             Code::InvalidArgument,
             Code::NotFound,
@@ -155,7 +167,7 @@ mod tests {
             Code::Unimplemented,
             Code::PermissionDenied,
         ] {
-            assert!(!is_retryable(code), "{code:?}");
+            assert!(!is_retryable(&tonic::Status::new(code, "x")), "{code:?}");
         }
     }
 
@@ -169,7 +181,12 @@ mod tests {
         );
         let mut p = policy();
         p.jitter = 1.5;
-        assert!(p.validate().unwrap_err().to_string().starts_with("retry.jitter = 1.5"));
+        assert!(
+            p.validate()
+                .unwrap_err()
+                .to_string()
+                .starts_with("retry.jitter = 1.5")
+        );
         assert!(policy().validate().is_ok());
     }
 }

@@ -95,7 +95,10 @@ mod tests {
 
     #[test]
     fn addresses_are_normalised_and_tls_is_refused() {
-        assert_eq!(normalise_address("127.0.0.1:50051").unwrap(), "http://127.0.0.1:50051");
+        assert_eq!(
+            normalise_address("127.0.0.1:50051").unwrap(),
+            "http://127.0.0.1:50051"
+        );
         assert_eq!(normalise_address("http://h:1").unwrap(), "http://h:1");
         let e = normalise_address("https://h:1").unwrap_err().to_string();
         assert!(e.starts_with("server = \"https://h:1\": must use http://"), "{e}");

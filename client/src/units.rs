@@ -9,9 +9,6 @@ use ratewell_proto::pb;
 use std::fmt;
 use std::str::FromStr;
 
-/// m^3 s^-1 per cm^3 s^-1.
-const M3_PER_CM3: f64 = 1e-6;
-
 /// Unit of an electron temperature.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
 pub enum TemperatureUnit {
@@ -27,7 +24,7 @@ impl TemperatureUnit {
     pub fn to_kelvin(self, value: f64) -> f64 {
         match self {
             TemperatureUnit::Kelvin => value,
-            TemperatureUnit::ElectronVolt => value * KELVIN_PER_EV,
+            TemperatureUnit::ElectronVolt => ratewell_proto::units::kelvin_from_electron_volt(value),
         }
     }
     /// A temperature in K converted to this unit.
@@ -69,7 +66,7 @@ impl RateUnit {
     pub fn from_cm3_s(self, q_cm3_s: f64) -> f64 {
         match self {
             RateUnit::CubicCentimetrePerSecond => q_cm3_s,
-            RateUnit::CubicMetrePerSecond => q_cm3_s * M3_PER_CM3,
+            RateUnit::CubicMetrePerSecond => ratewell_proto::units::m3_s_from_cm3_s(q_cm3_s),
         }
     }
     /// Short symbol ("cm3/s", "m3/s").
@@ -349,7 +346,10 @@ mod tests {
 
     #[test]
     fn unit_names_parse_and_bad_ones_list_the_choices() {
-        assert_eq!("eV".parse::<TemperatureUnit>().unwrap(), TemperatureUnit::ElectronVolt);
+        assert_eq!(
+            "eV".parse::<TemperatureUnit>().unwrap(),
+            TemperatureUnit::ElectronVolt
+        );
         assert_eq!("K".parse::<TemperatureUnit>().unwrap(), TemperatureUnit::Kelvin);
         assert_eq!("m3/s".parse::<RateUnit>().unwrap(), RateUnit::CubicMetrePerSecond);
         let e = "F".parse::<TemperatureUnit>().unwrap_err().to_string();
@@ -360,7 +360,10 @@ mod tests {
     fn wire_values_match_the_contract() {
         assert_eq!(TemperatureUnit::ElectronVolt.to_wire(), 2);
         assert_eq!(RateUnit::CubicMetrePerSecond.to_wire(), 2);
-        assert_eq!(RateUnit::from_wire(0).unwrap(), RateUnit::CubicCentimetrePerSecond);
+        assert_eq!(
+            RateUnit::from_wire(0).unwrap(),
+            RateUnit::CubicCentimetrePerSecond
+        );
         assert!(RateUnit::from_wire(9).is_err());
         assert_eq!(DensityUnit::PerCubicMetre.to_wire(), 2);
         assert_eq!(PowerUnit::ErgPerSecond.to_wire(), 2);

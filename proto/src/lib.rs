@@ -5,10 +5,12 @@
 //!   The server answers lookups with it and the client library evaluates fetched tables with it,
 //!   so both agree bit for bit.
 //! - [`constants`]: CODATA constants and the rate-coefficient prefactor derived from them.
+//! - [`units`]: the unit conversions applied to served values (shared, so they agree bit for bit).
 //! - [`wire`]: conversions between wire tables and [`rule::RateTable`].
 
 pub mod constants;
 pub mod rule;
+pub mod units;
 pub mod wire;
 
 /// Generated protobuf messages and gRPC services of package `ratewell.v1`.

@@ -14,7 +14,12 @@ pub mod transport;
 use crate::engine::{Engine, EngineError};
 use std::sync::Arc;
 use tokio::sync::Semaphore;
+use std::time::Duration;
 use tonic::Status;
+use tonic_types::{ErrorDetails, StatusExt};
+
+/// The wait suggested to a client whose call was shed.
+const SHED_RETRY_HINT: Duration = Duration::from_millis(50);
 
 /// State shared by every handler. Cheap to clone.
 #[derive(Clone)]
@@ -43,10 +48,16 @@ impl AppState {
         F: FnOnce(&Engine) -> Result<T, EngineError> + Send + 'static,
     {
         let permit = Arc::clone(&self.permits).try_acquire_owned().map_err(|_| {
-            Status::resource_exhausted(format!(
-                "server busy: {} requests in flight (limit max_in_flight = {}); retry with backoff",
-                self.max_in_flight, self.max_in_flight
-            ))
+            // The retry hint tells clients this is load shedding, worth retrying, unlike a
+            // request over a configured limit (also RESOURCE_EXHAUSTED, without a hint).
+            Status::with_error_details(
+                tonic::Code::ResourceExhausted,
+                format!(
+                    "server busy: {} engine calls in flight (max_in_flight); retry with backoff",
+                    self.max_in_flight
+                ),
+                ErrorDetails::with_retry_info(Some(SHED_RETRY_HINT)),
+            )
         })?;
         let engine = self.engine.clone();
         let joined = tokio::task::spawn_blocking(move || {

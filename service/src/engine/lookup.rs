@@ -129,9 +129,11 @@ impl Engine {
                 table.write_at(loc, dir, j, exc, deexc, fl);
             }
         }
-        let factor = query.rate_unit.from_cm3_s_factor();
-        if factor != 1.0 {
-            excitation.iter_mut().chain(deexcitation.iter_mut()).for_each(|v| *v *= factor);
+        if query.rate_unit == RateUnit::CubicMetrePerSecond {
+            excitation
+                .iter_mut()
+                .chain(deexcitation.iter_mut())
+                .for_each(|v| *v = ratewell_proto::units::m3_s_from_cm3_s(*v));
         }
         let mut cautions = tables.cautions.clone();
         let all_flags = flags.iter().fold(0, |a, b| a | b);

@@ -1,8 +1,6 @@
 //! Units named at the engine's boundary, and the conversions to the canonical units the core
 //! computes in (K, cm^-3, cm^3 s^-1, W).
 
-use crate::physics::constants::KELVIN_PER_EV;
-
 /// Unit of temperatures in a request.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
 pub enum TemperatureUnit {
@@ -25,7 +23,7 @@ impl TemperatureUnit {
     pub fn to_kelvin(self, value: f64) -> f64 {
         match self {
             Self::Kelvin => value,
-            Self::ElectronVolt => value * KELVIN_PER_EV,
+            Self::ElectronVolt => ratewell_proto::units::kelvin_from_electron_volt(value),
         }
     }
 }
@@ -52,7 +50,7 @@ impl DensityUnit {
     pub fn to_per_cm3(self, value: f64) -> f64 {
         match self {
             Self::PerCubicCentimetre => value,
-            Self::PerCubicMetre => value * 1e-6,
+            Self::PerCubicMetre => ratewell_proto::units::per_cm3_from_per_m3(value),
         }
     }
 }
@@ -67,15 +65,6 @@ pub enum RateUnit {
     CubicMetrePerSecond,
 }
 
-impl RateUnit {
-    /// Factor from cm^3 s^-1 to this unit.
-    pub fn from_cm3_s_factor(self) -> f64 {
-        match self {
-            Self::CubicCentimetrePerSecond => 1.0,
-            Self::CubicMetrePerSecond => 1e-6,
-        }
-    }
-}
 
 /// Unit of emitted power in an answer.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]

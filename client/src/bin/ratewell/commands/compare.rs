@@ -1,0 +1,276 @@
+//! `compare`: two datasets on one server (the server's Consistency service), or one dataset
+//! on two servers (tables fetched from both and compared here on the first one's grid).
+
+use crate::args::CompareArgs;
+use crate::context::Context;
+use crate::error::CliError;
+use crate::output::{Table, json_text, stamp_json, stamp_line};
+use ratewell_client::{Client, ClientConfig, DatasetRef, LocalComparison, compare_tables, pb, stamp_label};
+use serde_json::json;
+use std::collections::BTreeSet;
+
+/// One compared transition.
+#[derive(Debug, Clone, PartialEq)]
+pub(crate) struct Row {
+    species: String,
+    transition: String,
+    max_relative_difference: f64,
+    at_temperature_k: f64,
+}
+
+/// A comparison in the form printed by both modes.
+#[derive(Debug, Clone, PartialEq)]
+pub(crate) struct Report {
+    mode: &'static str,
+    first: pb::DatasetStamp,
+    second: pb::DatasetStamp,
+    rows: Vec<Row>,
+    only_in_first: Vec<String>,
+    only_in_second: Vec<String>,
+    mismatches: Vec<String>,
+}
+
+/// `compare`.
+pub(crate) async fn run(ctx: &Context, a: &CompareArgs) -> Result<String, CliError> {
+    let report = match &a.second_server {
+        None => on_one_server(ctx, a).await?,
+        Some(url) => on_two_servers(ctx, a, url).await?,
+    };
+    Ok(if ctx.json {
+        as_json(&report)
+    } else {
+        as_text(&report)
+    })
+}
+
+async fn on_one_server(ctx: &Context, a: &CompareArgs) -> Result<Report, CliError> {
+    let r = ctx
+        .client
+        .compare_datasets(&a.first, &a.second, &a.species, None)
+        .await?;
+    Ok(Report {
+        mode: "compared by the server (Consistency service)",
+        first: r.first.unwrap_or_default(),
+        second: r.second.unwrap_or_default(),
+        rows: r
+            .differences
+            .into_iter()
+            .map(|d| {
+                let k = d.key.unwrap_or_default();
+                Row {
+                    species: d.species,
+                    transition: format!("{}-{}", k.upper, k.lower),
+                    max_relative_difference: d.max_relative_difference,
+                    at_temperature_k: d.at_temperature_k,
+                }
+            })
+            .collect(),
+        only_in_first: r.only_in_first,
+        only_in_second: r.only_in_second,
+        mismatches: r.level_mismatches,
+    })
+}
+
+/// Species of a dataset (matching version when one is given) in a server's catalogue.
+fn species_of(sets: &[pb::DatasetSummary], d: &DatasetRef) -> BTreeSet<String> {
+    sets.iter()
+        .filter(|s| {
+            s.stamp
+                .as_ref()
+                .is_some_and(|st| st.id == d.id() && d.version().is_none_or(|v| v == st.version))
+        })
+        .flat_map(|s| s.species.iter().cloned())
+        .collect()
+}
+
+async fn on_two_servers(ctx: &Context, a: &CompareArgs, url: &str) -> Result<Report, CliError> {
+    let config = ClientConfig::new(url).with_call_timeout(ctx.timeout);
+    config
+        .validate()
+        .map_err(|e| CliError::argument("--second-server", e))?;
+    let first = ctx.client.with_dataset(a.first.clone());
+    let second = Client::new(config)?.with_dataset(a.second.clone());
+    let species: Vec<String> = if a.species.is_empty() {
+        let s1 = species_of(&first.list_datasets().await?, &a.first);
+        let s2 = species_of(&second.list_datasets().await?, &a.second);
+        s1.intersection(&s2).cloned().collect()
+    } else {
+        a.species.clone()
+    };
+    if species.is_empty() {
+        return Err(CliError::argument(
+            "--species",
+            format!(
+                "not given, and {} and {} (on {url}) have no species in common",
+                a.first, a.second
+            ),
+        ));
+    }
+    let mut comparisons: Vec<LocalComparison> = Vec::new();
+    for s in &species {
+        let t1 = first.fetch_tables(s, None).await?;
+        let t2 = second.fetch_tables(s, None).await?;
+        comparisons.push(compare_tables(&t1, &t2)?);
+    }
+    Ok(local_report(comparisons))
+}
+
+pub(crate) fn local_report(comparisons: Vec<LocalComparison>) -> Report {
+    let first = comparisons.first().map(|c| c.first.clone()).unwrap_or_default();
+    let second = comparisons.first().map(|c| c.second.clone()).unwrap_or_default();
+    let mut r = Report {
+        mode: "tables fetched from both servers, compared here on the first one's grid",
+        first,
+        second,
+        rows: Vec::new(),
+        only_in_first: Vec::new(),
+        only_in_second: Vec::new(),
+        mismatches: Vec::new(),
+    };
+    for c in comparisons {
+        let sp = &c.species;
+        r.rows.extend(c.differences.iter().map(|d| Row {
+            species: sp.clone(),
+            transition: d.transition.to_string(),
+            max_relative_difference: d.max_relative_difference,
+            at_temperature_k: d.at_temperature_k,
+        }));
+        r.only_in_first
+            .extend(c.only_in_first.iter().map(|t| format!("{sp} {t}")));
+        r.only_in_second
+            .extend(c.only_in_second.iter().map(|t| format!("{sp} {t}")));
+        r.mismatches
+            .extend(c.header_mismatches.iter().map(|m| format!("{sp} {m}")));
+    }
+    r
+}
+
+pub(crate) fn as_text(r: &Report) -> String {
+    let mut out = format!(
+        "first:  {}second: {}",
+        stamp_line(&r.first),
+        stamp_line(&r.second)
+    );
+    out.push_str(&format!(
+        "{}; relative difference of the de-excitation rate coefficient, max over temperature\n",
+        r.mode
+    ));
+    let mut t = Table::new(&["SPECIES", "TRANSITION", "MAX_REL_DIFF", "AT_T_K"]);
+    for row in &r.rows {
+        t.row(vec![
+            row.species.clone(),
+            row.transition.clone(),
+            format!("{:.3e}", row.max_relative_difference),
+            format!("{:.6e}", row.at_temperature_k),
+        ]);
+    }
+    out.push_str(&t.render());
+    for (label, list) in [
+        (format!("only in {}", stamp_label(&r.first)), &r.only_in_first),
+        (format!("only in {}", stamp_label(&r.second)), &r.only_in_second),
+        ("levels or weights differ".to_string(), &r.mismatches),
+    ] {
+        if !list.is_empty() {
+            out.push_str(&format!("{label}: {}\n", list.join(", ")));
+        }
+    }
+    let worst = r
+        .rows
+        .iter()
+        .map(|x| x.max_relative_difference)
+        .fold(0.0, f64::max);
+    out.push_str(&format!(
+        "largest difference {worst:.3e} over {} transition(s)\n",
+        r.rows.len()
+    ));
+    out
+}
+
+pub(crate) fn as_json(r: &Report) -> String {
+    let rows: Vec<_> = r
+        .rows
+        .iter()
+        .map(|x| {
+            json!({
+                "species": x.species, "transition": x.transition,
+                "max_relative_difference": x.max_relative_difference,
+                "at_temperature_k": x.at_temperature_k,
+            })
+        })
+        .collect();
+    json_text(&json!({
+        "mode": r.mode,
+        "first": stamp_json(&r.first),
+        "second": stamp_json(&r.second),
+        "differences": rows,
+        "only_in_first": r.only_in_first,
+        "only_in_second": r.only_in_second,
+        "level_mismatches": r.mismatches,
+    }))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use ratewell_client::{TableDifference, Transition};
+
+    fn stamp(v: &str, h: char) -> pb::DatasetStamp {
+        pb::DatasetStamp {
+            id: "demo".into(),
+            version: v.into(),
+            content_hash: h.to_string().repeat(64),
+        }
+    }
+
+    #[test]
+    fn a_local_report_shows_both_hashes_and_each_difference() {
+        let c = LocalComparison {
+            species: "X".into(),
+            first: stamp("1.0.0", 'a'),
+            second: stamp("1.1.0", 'b'),
+            differences: vec![TableDifference {
+                transition: Transition { upper: 2, lower: 1 },
+                max_relative_difference: 0.0909,
+                at_temperature_k: 1e4,
+            }],
+            only_in_first: vec![Transition { upper: 3, lower: 2 }],
+            only_in_second: vec![],
+            header_mismatches: vec![],
+            temperature_count: 61,
+        };
+        let text = as_text(&local_report(vec![c]));
+        assert!(
+            text.contains(&"a".repeat(64)) && text.contains(&"b".repeat(64)),
+            "{text}"
+        );
+        assert!(
+            text.contains("X        2-1             9.090e-2  1.000000e4"),
+            "{text}"
+        );
+        assert!(text.contains("only in demo@1.0.0: X 3-2"), "{text}");
+        assert!(
+            text.contains("largest difference 9.090e-2 over 1 transition(s)"),
+            "{text}"
+        );
+    }
+
+    #[test]
+    fn catalogue_species_follow_id_and_version() {
+        let sets = vec![
+            pb::DatasetSummary {
+                stamp: Some(stamp("1.0.0", 'a')),
+                species: vec!["X".into()],
+                ..Default::default()
+            },
+            pb::DatasetSummary {
+                stamp: Some(stamp("1.1.0", 'b')),
+                species: vec!["X".into(), "Y".into()],
+                ..Default::default()
+            },
+        ];
+        let v1: DatasetRef = "demo@1.0.0".parse().unwrap();
+        assert_eq!(species_of(&sets, &v1).len(), 1);
+        let any: DatasetRef = "demo".parse().unwrap();
+        assert_eq!(species_of(&sets, &any).len(), 2);
+    }
+}

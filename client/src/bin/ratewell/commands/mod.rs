@@ -1,0 +1,26 @@
+//! One module per subcommand; each returns the text to print.
+
+mod catalogue;
+mod compare;
+mod export;
+mod health;
+mod populations;
+mod rates;
+
+use crate::args::{Cli, Command};
+use crate::context::Context;
+use crate::error::CliError;
+
+/// Runs the chosen subcommand.
+pub(crate) async fn run(cli: &Cli) -> Result<String, CliError> {
+    let ctx = Context::new(cli)?;
+    match &cli.command {
+        Command::Datasets => catalogue::datasets(&ctx).await,
+        Command::Species(a) => catalogue::species(&ctx, a).await,
+        Command::Rates(a) => rates::run(&ctx, a).await,
+        Command::Populations(a) => populations::run(&ctx, a).await,
+        Command::Compare(a) => compare::run(&ctx, a).await,
+        Command::Export(a) => export::run(&ctx, a).await,
+        Command::Health => health::run(&ctx).await,
+    }
+}

@@ -1,0 +1,77 @@
+//! The command-line tool's errors and their exit codes.
+
+use ratewell_client::ClientError;
+
+/// What can stop a command.
+#[derive(Debug, thiserror::Error)]
+pub(crate) enum CliError {
+    /// A failure of the client library (server, connection, pinning, arguments).
+    #[error(transparent)]
+    Client(#[from] ClientError),
+    /// A bad or missing argument, named in the message.
+    #[error("{0}")]
+    Usage(String),
+    /// A check that did not pass (e.g. an endpoint not serving), with its report.
+    #[error("{0}")]
+    Failed(String),
+    /// A file that could not be written.
+    #[error("{path}: {message}")]
+    Io {
+        /// The file.
+        path: String,
+        /// What went wrong.
+        message: String,
+    },
+}
+
+impl CliError {
+    /// 1 server or connection failure, 2 bad arguments, 3 dataset stamp or pin mismatch.
+    pub(crate) fn exit_code(&self) -> u8 {
+        match self {
+            CliError::Usage(_) => 2,
+            CliError::Io { .. } | CliError::Failed(_) => 1,
+            CliError::Client(e) => match e {
+                ClientError::InvalidArgument { .. } | ClientError::UnknownTransition { .. } => 2,
+                ClientError::HashMismatch { .. }
+                | ClientError::PinRefused { .. }
+                | ClientError::StampMismatch { .. } => 3,
+                ClientError::Status { .. }
+                | ClientError::Malformed { .. }
+                | ClientError::Timeout { .. }
+                | ClientError::Transport { .. }
+                | ClientError::Rule(_)
+                | ClientError::Runtime(_) => 1,
+            },
+        }
+    }
+
+    /// A usage error for one argument: "--name: message".
+    pub(crate) fn argument(name: &str, e: impl std::fmt::Display) -> Self {
+        CliError::Usage(format!("{name}: {e}"))
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn exit_codes_separate_arguments_pins_and_failures() {
+        assert_eq!(CliError::Usage("x".into()).exit_code(), 2);
+        let pin = ClientError::HashMismatch {
+            expected: "a".into(),
+            got: "b".into(),
+            dataset: "d@1".into(),
+        };
+        assert_eq!(CliError::from(pin).exit_code(), 3);
+        let t = ClientError::Timeout {
+            operation: "X",
+            after: std::time::Duration::from_secs(1),
+        };
+        assert_eq!(CliError::from(t).exit_code(), 1);
+        assert_eq!(
+            CliError::argument("--temperatures", "temperature[1] = -3 K: must be finite and > 0").to_string(),
+            "--temperatures: temperature[1] = -3 K: must be finite and > 0"
+        );
+    }
+}
