@@ -3,14 +3,17 @@
 
 Nothing here is measured or computed from atomic structure: the numbers are made up to have
 plausible magnitudes (A from 1e-3 to 1e9 s^-1, effective collision strengths 0.01-10, level
-energies up to ~1e5 cm^-1) so that the service has a large species to exercise. Only the A
-values of allowed lines are made consistent with their invented oscillator strengths and
-wavelengths, through the standard relation f_lu = (g_u/g_l) * A * eps0 m_e c^3 / (2 pi e^2 nu^2).
+energies up to ~1e5 cm^-1) so that the service has a large species to exercise. For allowed
+lines the invented numbers are made consistent with each other, as real data would be: A
+follows from f_lu through f_lu = (g_u/g_l) * A * eps0 m_e c^3 / (2 pi e^2 nu^2), and the
+Upsilon(T) and Omega(E) tables have the Bethe high-energy limit set by f_lu (Van Regemorter
+shape), so that Burgess & Tully scaling with its oscillator-strength limit point fits them.
 
 Usage (from any folder):
     python3 make_large_species.py            # writes demo/mk-ii.toml and demo-v2/mk-ii.toml
 The demo-v2 copy differs in a few numbers (one level energy, one A value, one upsilon), so that
-two versions can be compared; allowed-line A values that depend on that level move with it.
+two versions can be compared; the allowed-line A, f and collision values that follow from
+that level energy move with it.
 Deterministic: a fixed linear congruential generator, no random module.
 """
 import math
@@ -26,6 +29,35 @@ E_CH = 1.602176634e-19
 
 TEMPERATURES_K = [1000.0, 2000.0, 5000.0, 1.0e4, 2.0e4, 5.0e4, 1.0e5, 2.0e5]
 SCATTERED_RY = [0.0, 0.05, 0.1, 0.2, 0.5, 1.0, 2.0, 5.0]
+RY_CM1 = 109737.31568160  # R_inf in cm^-1 (CODATA 2018)
+K_PER_RY = 157887.51      # Rydberg energy / k in K (CODATA 2018)
+
+
+def e1(y):
+    """Exponential integral E1(y), y > 0 (series below 1, continued fraction above)."""
+    if y < 1.0:
+        total, term = 0.0, 1.0
+        for k in range(1, 40):
+            term *= -y / k
+            total -= term / k
+        return -0.5772156649015329 - math.log(y) + total
+    frac = 0.0
+    for k in range(60, 0, -1):
+        frac = k * k / (y + 2 * k + 1 - frac)
+    return math.exp(-y) / (y + 1 - frac)
+
+
+def gaunt_ion(y):
+    """Van Regemorter's effective Gaunt factor for ions: Bethe form joined to a 0.2 floor."""
+    bethe = math.sqrt(3) / (2 * math.pi) * math.exp(y) * e1(y)
+    return (bethe**4 + 0.2**4) ** 0.25
+
+
+def allowed_upsilon(g_lower, f, de_cm1, t_k):
+    """Upsilon with the Bethe high-temperature limit of an allowed line (Van Regemorter shape),
+    so that invented allowed data agree with their oscillator strength."""
+    de_ry = de_cm1 / RY_CM1
+    return 8 * math.pi / math.sqrt(3) * g_lower * f / de_ry * gaunt_ion(de_ry * K_PER_RY / t_k)
 
 
 class Lcg:
@@ -122,15 +154,18 @@ def build_radiative(levels, rng, variant):
             if l["energy"] >= u["energy"]:
                 continue
             if dipole_allowed(u, l):
-                # pick f (strong: same multiplicity), derive A, keep A within 1e-3..1e9 s^-1
+                # pick Upsilon(1e4 K) (strong: same multiplicity), derive f from the Bethe-limit
+                # shape and A from f; keep A <= 1e9 s^-1 and Upsilon <= 10 up to 2e5 K
                 strong = u["mult"] == l["mult"]
-                f = rng.log_between(0.02, 0.8) if strong else rng.log_between(1e-5, 1e-3)
+                target = rng.log_between(0.5, 4.0) if strong else rng.log_between(0.02, 0.3)
+                de = u["energy"] - l["energy"]
+                f = target / allowed_upsilon(l["g"], 1.0, de, 1.0e4)
+                f = min(f, 9.5 / allowed_upsilon(l["g"], 1.0, de, TEMPERATURES_K[-1]))
                 a = f / oscillator_strength(u, l, 1.0)
                 if a > 1.0e9:
                     a = rng.log_between(3e8, 1e9)
                     f = oscillator_strength(u, l, a)
-                if a >= 1.0e-3:
-                    lines.append((u, l, a, f))
+                lines.append((u, l, a, f))
             elif u["parity"] == l["parity"] and abs(u["j"] - l["j"]) <= 2:
                 # forbidden (magnetic dipole / electric quadrupole): only some are listed
                 if rng.uniform() < 0.35:
@@ -141,25 +176,36 @@ def build_radiative(levels, rng, variant):
     return lines
 
 
-def upsilon_table(kind, rng):
+def upsilon_table(kind, rng, u, l, f):
+    """Smooth invented Upsilon(T) shapes with the right high-temperature behaviour for each
+    Burgess & Tully type; each stays within 0.01-10 without clipping."""
     t4 = [t / 1.0e4 for t in TEMPERATURES_K]
-    if kind == "allowed":
-        scale = rng.log_between(1.0, 8.0)
-        return [min(10.0, scale * (0.6 + 0.15 * math.log(1 + 10 * x))) for x in t4]
-    if kind == "weak-allowed":
-        scale = rng.log_between(0.1, 1.0)
-        return [scale * (0.8 + 0.1 * math.log(1 + 10 * x)) for x in t4]
+    if kind in ("allowed", "weak-allowed"):
+        de = u["energy"] - l["energy"]
+        return [allowed_upsilon(l["g"], f, de, t) * (1 + 0.15 / (1 + t / 2.0e4)) for t in TEMPERATURES_K]
     if kind == "forbidden":
         scale = rng.log_between(0.05, 3.0)
         slope = rng.between(-0.05, 0.08)
         return [scale * (1 + slope * math.log10(x * 10)) for x in t4]
-    scale = rng.log_between(0.02, 0.5)  # spin-change: falls with temperature
-    return [max(0.01, scale / (1 + 0.3 * x)) for x in t4]
+    scale = rng.log_between(0.05, 0.5)  # spin-change: falls as 1/T at high temperature
+    return [scale / (1 + 0.2 * x) for x in t4]
 
 
-def collision_kind(u, l, f):
+def omega_table(kind, rng, u, l, f):
+    """Smooth invented Omega(E_f) with the right high-energy behaviour for each type."""
+    de_ry = (u["energy"] - l["energy"]) / RY_CM1
+    if kind in ("allowed", "weak-allowed"):
+        pre = 8 * math.pi / math.sqrt(3) * l["g"] * f / de_ry
+        return [pre * (0.2 + math.sqrt(3) / (2 * math.pi) * math.log(1 + e / de_ry)) for e in SCATTERED_RY]
+    base = rng.log_between(0.05, 3.0)
+    if kind == "forbidden":
+        return [base * (1 + 0.1 * e / (1 + e)) for e in SCATTERED_RY]
+    return [base / (1 + e / de_ry) ** 2 for e in SCATTERED_RY]
+
+
+def collision_kind(u, l):
     if dipole_allowed(u, l):
-        return "allowed" if (f is not None and f > 0.01) else "weak-allowed"
+        return "allowed" if u["mult"] == l["mult"] else "weak-allowed"
     return "forbidden" if u["mult"] == l["mult"] else "spin-change"
 
 
@@ -171,19 +217,18 @@ def build_collisions(levels, lines, rng, variant):
             if l["energy"] >= u["energy"]:
                 continue
             f = f_of.get((u["index"], l["index"]))
-            kind = collision_kind(u, l, f)
+            kind = collision_kind(u, l)
             roll = rng.uniform()
             block = {"upper": u["index"], "lower": l["index"], "type": kind}
-            if kind == "allowed" and f is not None and roll < 0.25:
+            if kind == "allowed" and roll < 0.25:
                 block["estimate"] = "van-regemorter"
-            elif kind != "allowed" and roll < 0.08:
+            elif kind in ("forbidden", "spin-change") and roll < 0.08:
                 block["estimate"] = "coulomb-focusing"
                 block["strength"] = round(rng.between(0.3, 1.5), 2)
             elif roll > 0.9:
-                base = upsilon_table(kind, rng)[3]
-                block["omega"] = [base * (1 + 0.05 * k) for k in range(len(SCATTERED_RY))]
+                block["omega"] = omega_table(kind, rng, u, l, f)
             else:
-                block["upsilon"] = upsilon_table(kind, rng)
+                block["upsilon"] = upsilon_table(kind, rng, u, l, f)
             blocks.append(block)
     if variant == "1.1.0":
         for b in blocks:

@@ -2,12 +2,12 @@
 
 use std::path::{Path, PathBuf};
 
+use super::MANIFEST_FILE;
 use super::error::DatasetError;
 use super::hash::SHORT_HASH_LEN;
 use super::load::assemble;
 use super::model::Dataset;
 use super::validate::parse_version;
-use super::MANIFEST_FILE;
 
 /// Load the dataset in folder `dir`: its manifest `dataset.toml` and species files.
 pub fn load_folder(dir: &Path) -> Result<Dataset, DatasetError> {
@@ -21,13 +21,16 @@ pub fn load_folder(dir: &Path) -> Result<Dataset, DatasetError> {
             // Name the real cause (missing folder, permissions) rather than the manifest.
             std::fs::read_dir(dir).map_err(io(dir))?;
         }
-        return Err(DatasetError::MissingManifest { location: dir.display().to_string() });
+        return Err(DatasetError::MissingManifest {
+            location: dir.display().to_string(),
+        });
     }
     let mut files: Vec<(String, String)> = Vec::new();
     for entry in std::fs::read_dir(dir).map_err(io(dir))? {
         let path = entry.map_err(io(dir))?.path();
         let is_toml = path.extension().is_some_and(|e| e == "toml");
-        if is_toml && path.is_file()
+        if is_toml
+            && path.is_file()
             && let Some(name) = path.file_name().and_then(|n| n.to_str())
         {
             let text = std::fs::read_to_string(&path).map_err(io(&path))?;
@@ -42,7 +45,10 @@ pub fn load_folder(dir: &Path) -> Result<Dataset, DatasetError> {
 
 /// The sub-folders of `data_dir` that hold a manifest `dataset.toml`, sorted by path.
 pub fn find_dataset_dirs(data_dir: &Path) -> Result<Vec<PathBuf>, DatasetError> {
-    let io = |source| DatasetError::Io { path: data_dir.to_path_buf(), source };
+    let io = |source| DatasetError::Io {
+        path: data_dir.to_path_buf(),
+        source,
+    };
     let mut dirs = Vec::new();
     for entry in std::fs::read_dir(data_dir).map_err(io)? {
         let path = entry.map_err(io)?.path();
@@ -81,8 +87,8 @@ impl Catalogue {
         let mut catalogue = Catalogue::new();
         let mut errors = Vec::new();
         for dir in find_dataset_dirs(data_dir)? {
-            let result = load_folder(&dir)
-                .and_then(|dataset| catalogue.insert(dataset, dir.display().to_string()));
+            let result =
+                load_folder(&dir).and_then(|dataset| catalogue.insert(dataset, dir.display().to_string()));
             if let Err(e) = result {
                 errors.push(e);
             }
@@ -97,8 +103,10 @@ impl Catalogue {
     /// Add a dataset; refuses a second dataset with the same id and version.
     pub fn insert(&mut self, dataset: Dataset, origin: impl Into<String>) -> Result<(), DatasetError> {
         let origin = origin.into();
-        if let Some(first) =
-            self.entries.iter().find(|e| e.dataset.id == dataset.id && e.dataset.version == dataset.version)
+        if let Some(first) = self
+            .entries
+            .iter()
+            .find(|e| e.dataset.id == dataset.id && e.dataset.version == dataset.version)
         {
             return Err(DatasetError::Duplicate {
                 id: dataset.id,
@@ -122,12 +130,16 @@ impl Catalogue {
 
     /// The entry (dataset and origin) with this id and version.
     pub fn entry(&self, id: &str, version: &str) -> Option<&CatalogueEntry> {
-        self.entries.iter().find(|e| e.dataset.id == id && e.dataset.version == version)
+        self.entries
+            .iter()
+            .find(|e| e.dataset.id == id && e.dataset.version == version)
     }
 
     /// The highest version (compared as MAJOR.MINOR.PATCH numbers) of dataset `id`.
     pub fn latest(&self, id: &str) -> Option<&Dataset> {
-        self.datasets().filter(|d| d.id == id).max_by_key(|d| parse_version(&d.version))
+        self.datasets()
+            .filter(|d| d.id == id)
+            .max_by_key(|d| parse_version(&d.version))
     }
 
     /// The dataset whose content hash is `hash`, or starts with `hash` when at least

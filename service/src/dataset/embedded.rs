@@ -17,5 +17,9 @@ pub const EMBEDDED_DEMO_FILES: [(&str, &str); 3] = [
 
 /// Load the embedded demo dataset (INVENTED data, for trying the service out).
 pub fn demo_dataset() -> Result<Dataset, DatasetError> {
-    assemble(&format!("{EMBEDDED_DEMO_ORIGIN}/"), EMBEDDED_DEMO_ORIGIN, &EMBEDDED_DEMO_FILES)
+    assemble(
+        &format!("{EMBEDDED_DEMO_ORIGIN}/"),
+        EMBEDDED_DEMO_ORIGIN,
+        &EMBEDDED_DEMO_FILES,
+    )
 }

@@ -75,9 +75,9 @@ impl DatasetError {
         match self {
             DatasetError::Invalid { problems } => problems.iter().collect(),
             DatasetError::Several { errors } => errors.iter().flat_map(|e| e.problems()).collect(),
-            DatasetError::Io { .. } | DatasetError::MissingManifest { .. } | DatasetError::Duplicate { .. } => {
-                Vec::new()
-            }
+            DatasetError::Io { .. }
+            | DatasetError::MissingManifest { .. }
+            | DatasetError::Duplicate { .. } => Vec::new(),
         }
     }
 }
@@ -92,5 +92,9 @@ fn list_problems(problems: &[Problem]) -> String {
 }
 
 fn list_errors(errors: &[DatasetError]) -> String {
-    errors.iter().map(|e| e.to_string()).collect::<Vec<_>>().join("\n")
+    errors
+        .iter()
+        .map(|e| e.to_string())
+        .collect::<Vec<_>>()
+        .join("\n")
 }

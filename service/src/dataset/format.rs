@@ -128,7 +128,8 @@ pub(crate) fn read_species(sink: &mut Sink<'_>, text: &str) -> Option<RawSpecies
     let doc = parse(sink, text)?;
     let mut root = TableReader::new(&doc, String::new(), 1);
 
-    let (header, name, element, nuclear_charge, ion_charge, source) = match root.table(sink, "species", true) {
+    let (header, name, element, nuclear_charge, ion_charge, source) = match root.table(sink, "species", true)
+    {
         Some(mut t) => {
             let fields = (
                 t.loc(),
@@ -141,7 +142,17 @@ pub(crate) fn read_species(sink: &mut Sink<'_>, text: &str) -> Option<RawSpecies
             t.finish(sink);
             fields
         }
-        None => (Loc { line: 1, field: "species".into() }, None, None, None, None, None),
+        None => (
+            Loc {
+                line: 1,
+                field: "species".into(),
+            },
+            None,
+            None,
+            None,
+            None,
+            None,
+        ),
     };
 
     let units = match root.table(sink, "units", false) {
@@ -157,11 +168,26 @@ pub(crate) fn read_species(sink: &mut Sink<'_>, text: &str) -> Option<RawSpecies
         None => RawUnits::default(),
     };
 
-    let sources = root.table(sink, "sources", false).map(|t| t.string_entries(sink)).unwrap_or_default();
+    let sources = root
+        .table(sink, "sources", false)
+        .map(|t| t.string_entries(sink))
+        .unwrap_or_default();
 
-    let levels = root.tables(sink, "level").into_iter().map(|t| read_level(sink, t)).collect();
-    let radiative = root.tables(sink, "radiative").into_iter().map(|t| read_radiative(sink, t)).collect();
-    let collisions = root.tables(sink, "collision").into_iter().map(|t| read_collision(sink, t)).collect();
+    let levels = root
+        .tables(sink, "level")
+        .into_iter()
+        .map(|t| read_level(sink, t))
+        .collect();
+    let radiative = root
+        .tables(sink, "radiative")
+        .into_iter()
+        .map(|t| read_radiative(sink, t))
+        .collect();
+    let collisions = root
+        .tables(sink, "collision")
+        .into_iter()
+        .map(|t| read_collision(sink, t))
+        .collect();
     root.finish(sink);
 
     Some(RawSpecies {

@@ -7,7 +7,9 @@
 //! levels in index order, transitions in `(upper, lower)` order; strings and lists are
 //! length-prefixed so that no two different models share a byte form.
 
-use super::model::{CollisionData, CollisionalTransition, Dataset, EstimateMethod, Level, RadiativeTransition, Species};
+use super::model::{
+    CollisionData, CollisionalTransition, Dataset, EstimateMethod, Level, RadiativeTransition, Species,
+};
 
 /// Domain tag opening the canonical form; bump it when the form changes.
 const DOMAIN: &str = "ratewell dataset canonical form 1";
@@ -88,17 +90,26 @@ fn write_species(w: &mut Writer, s: &Species) {
 
 fn write_data(w: &mut Writer, data: &CollisionData) {
     match data {
-        CollisionData::EffectiveTable { temperatures_k, upsilon } => {
+        CollisionData::EffectiveTable {
+            temperatures_k,
+            upsilon,
+        } => {
             w.text("effective-table");
             w.numbers(temperatures_k);
             w.numbers(upsilon);
         }
-        CollisionData::StrengthTable { scattered_energies_ry, omega } => {
+        CollisionData::StrengthTable {
+            scattered_energies_ry,
+            omega,
+        } => {
             w.text("strength-table");
             w.numbers(scattered_energies_ry);
             w.numbers(omega);
         }
-        CollisionData::Estimate(EstimateMethod::VanRegemorter { oscillator_strength, from_radiative }) => {
+        CollisionData::Estimate(EstimateMethod::VanRegemorter {
+            oscillator_strength,
+            from_radiative,
+        }) => {
             w.text("van-regemorter");
             w.number(*oscillator_strength);
             w.whole(u32::from(*from_radiative));

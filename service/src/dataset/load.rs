@@ -2,13 +2,13 @@
 
 use std::collections::BTreeMap;
 
+use super::MANIFEST_FILE;
 use super::error::{DatasetError, Problem};
 use super::format::{read_manifest, read_species};
 use super::hash::content_hash;
 use super::model::{Dataset, Species};
 use super::reader::Sink;
 use super::validate::{build_species, check_manifest};
-use super::MANIFEST_FILE;
 
 /// Load a dataset from `(file name, file text)` pairs: one must be the manifest
 /// `dataset.toml`; the species files are those it lists, or else every other `*.toml` pair.
@@ -19,7 +19,11 @@ pub fn load_dataset_from_texts(files: &[(&str, &str)]) -> Result<Dataset, Datase
 
 /// As [`load_dataset_from_texts`], with `prefix` put before every file name in problems and
 /// `location` naming the whole set when the manifest is missing.
-pub(crate) fn assemble(prefix: &str, location: &str, files: &[(&str, &str)]) -> Result<Dataset, DatasetError> {
+pub(crate) fn assemble(
+    prefix: &str,
+    location: &str,
+    files: &[(&str, &str)],
+) -> Result<Dataset, DatasetError> {
     let display = |name: &str| format!("{prefix}{name}");
     let mut by_name: BTreeMap<&str, &str> = BTreeMap::new();
     let mut problems: Vec<Problem> = Vec::new();
@@ -34,13 +38,18 @@ pub(crate) fn assemble(prefix: &str, location: &str, files: &[(&str, &str)]) -> 
         }
     }
     let Some(manifest_text) = by_name.get(MANIFEST_FILE).copied() else {
-        return Err(DatasetError::MissingManifest { location: location.to_string() });
+        return Err(DatasetError::MissingManifest {
+            location: location.to_string(),
+        });
     };
 
     let manifest_name = display(MANIFEST_FILE);
     let mut sink = Sink::new(&manifest_name, manifest_text);
     let raw = read_manifest(&mut sink, manifest_text);
-    let listed = raw.as_ref().and_then(|r| r.species_files.as_ref()).map(|f| f.value.clone());
+    let listed = raw
+        .as_ref()
+        .and_then(|r| r.species_files.as_ref())
+        .map(|f| f.value.clone());
     let manifest = raw.and_then(|r| check_manifest(&mut sink, r));
 
     let species_files: Vec<&str> = match &listed {
@@ -54,10 +63,18 @@ pub(crate) fn assemble(prefix: &str, location: &str, files: &[(&str, &str)]) -> 
                 }
             })
             .collect(),
-        None => by_name.keys().copied().filter(|n| n.ends_with(".toml") && *n != MANIFEST_FILE).collect(),
+        None => by_name
+            .keys()
+            .copied()
+            .filter(|n| n.ends_with(".toml") && *n != MANIFEST_FILE)
+            .collect(),
     };
     if species_files.is_empty() && listed.is_none() {
-        sink.report_line(None, "species_files", "the dataset has no species files (no other *.toml file)");
+        sink.report_line(
+            None,
+            "species_files",
+            "the dataset has no species files (no other *.toml file)",
+        );
     }
     problems.extend(sink.into_problems());
 
@@ -72,15 +89,23 @@ pub(crate) fn assemble(prefix: &str, location: &str, files: &[(&str, &str)]) -> 
                 match names.get(&n.value) {
                     Some((first_file, first_line)) => sink.report(
                         &n.loc,
-                        format!("got {:?} again, species already defined in {first_file}:{first_line}", n.value),
+                        format!(
+                            "got {:?} again, species already defined in {first_file}:{first_line}",
+                            n.value
+                        ),
                     ),
                     None => {
                         names.insert(n.value.clone(), (file.clone(), n.loc.line));
                     }
                 }
             }
-            if let Some(s) = build_species(&mut sink, raw) {
-                species.push(s);
+            match build_species(&mut sink, raw) {
+                Some(s) => species.push(s),
+                // never expected: a species is only withheld together with a reported problem
+                None if !sink.has_problems() => {
+                    sink.report_line(None, "(file)", "species could not be built (internal error)")
+                }
+                None => {}
             }
         }
         problems.extend(sink.into_problems());

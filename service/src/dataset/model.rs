@@ -78,12 +78,16 @@ impl Species {
 
     /// The radiative transition from level `upper` to level `lower`.
     pub fn radiative_transition(&self, upper: u32, lower: u32) -> Option<&RadiativeTransition> {
-        self.radiative.iter().find(|t| t.upper == upper && t.lower == lower)
+        self.radiative
+            .iter()
+            .find(|t| t.upper == upper && t.lower == lower)
     }
 
     /// The collisional transition between levels `upper` and `lower`.
     pub fn collisional_transition(&self, upper: u32, lower: u32) -> Option<&CollisionalTransition> {
-        self.collisions.iter().find(|t| t.upper == upper && t.lower == lower)
+        self.collisions
+            .iter()
+            .find(|t| t.upper == upper && t.lower == lower)
     }
 
     /// Energy difference E(upper) - E(lower), cm^-1.

@@ -35,7 +35,12 @@ pub(crate) struct Sink<'t> {
 
 impl<'t> Sink<'t> {
     pub(crate) fn new(file: &str, text: &'t str) -> Self {
-        Sink { file: file.to_string(), text, lines: LineIndex::new(text), problems: Vec::new() }
+        Sink {
+            file: file.to_string(),
+            text,
+            lines: LineIndex::new(text),
+            problems: Vec::new(),
+        }
     }
 
     pub(crate) fn line_of(&self, span: &Range<usize>) -> usize {
@@ -57,7 +62,12 @@ impl<'t> Sink<'t> {
         self.report_line(Some(loc.line), loc.field.clone(), message);
     }
 
-    pub(crate) fn report_line(&mut self, line: Option<usize>, field: impl Into<String>, message: impl Into<String>) {
+    pub(crate) fn report_line(
+        &mut self,
+        line: Option<usize>,
+        field: impl Into<String>,
+        message: impl Into<String>,
+    ) {
         self.problems.push(Problem {
             file: self.file.clone(),
             line,
@@ -86,16 +96,28 @@ pub(crate) struct TableReader<'a, 'i> {
 impl<'a, 'i> TableReader<'a, 'i> {
     /// `path` is the field path of the table itself (empty for the document root).
     pub(crate) fn new(table: &'a DeTable<'i>, path: String, line: usize) -> Self {
-        TableReader { table, path, line, known: Vec::new() }
+        TableReader {
+            table,
+            path,
+            line,
+            known: Vec::new(),
+        }
     }
 
     /// Location of the table header (used for missing keys).
     pub(crate) fn loc(&self) -> Loc {
-        Loc { line: self.line, field: self.path.clone() }
+        Loc {
+            line: self.line,
+            field: self.path.clone(),
+        }
     }
 
     pub(crate) fn field(&self, key: &str) -> String {
-        if self.path.is_empty() { key.to_string() } else { format!("{}.{key}", self.path) }
+        if self.path.is_empty() {
+            key.to_string()
+        } else {
+            format!("{}.{key}", self.path)
+        }
     }
 
     /// True when `key` is present, whatever its value (marks the key as known).
@@ -109,8 +131,16 @@ impl<'a, 'i> TableReader<'a, 'i> {
     }
 
     fn missing(&self, sink: &mut Sink<'_>, key: &str, what: &str) {
-        let place = if self.path.is_empty() { "the file".to_string() } else { format!("[{}]", self.path) };
-        sink.report_line(Some(self.line), self.field(key), format!("missing: {place} needs `{key}`, {what}"));
+        let place = if self.path.is_empty() {
+            "the file".to_string()
+        } else {
+            format!("[{}]", self.path)
+        };
+        sink.report_line(
+            Some(self.line),
+            self.field(key),
+            format!("missing: {place} needs `{key}`, {what}"),
+        );
     }
 
     fn wrong_type(&self, sink: &mut Sink<'_>, key: &str, value: &Spanned<DeValue<'_>>, what: &str) {
@@ -124,7 +154,12 @@ impl<'a, 'i> TableReader<'a, 'i> {
     }
 
     /// A string value.
-    pub(crate) fn text(&mut self, sink: &mut Sink<'_>, key: &'static str, required: bool) -> Option<Val<String>> {
+    pub(crate) fn text(
+        &mut self,
+        sink: &mut Sink<'_>,
+        key: &'static str,
+        required: bool,
+    ) -> Option<Val<String>> {
         let value = match self.get(key) {
             Some(v) => v,
             None => {
@@ -135,9 +170,13 @@ impl<'a, 'i> TableReader<'a, 'i> {
             }
         };
         match value.get_ref() {
-            DeValue::String(s) => {
-                Some(Val { value: s.to_string(), loc: Loc { line: sink.line_of(&value.span()), field: self.field(key) } })
-            }
+            DeValue::String(s) => Some(Val {
+                value: s.to_string(),
+                loc: Loc {
+                    line: sink.line_of(&value.span()),
+                    field: self.field(key),
+                },
+            }),
             _ => {
                 self.wrong_type(sink, key, value, "a string");
                 None
@@ -146,7 +185,12 @@ impl<'a, 'i> TableReader<'a, 'i> {
     }
 
     /// A number (integer or float), as f64.
-    pub(crate) fn number(&mut self, sink: &mut Sink<'_>, key: &'static str, required: bool) -> Option<Val<f64>> {
+    pub(crate) fn number(
+        &mut self,
+        sink: &mut Sink<'_>,
+        key: &'static str,
+        required: bool,
+    ) -> Option<Val<f64>> {
         let field = self.field(key);
         match self.get(key) {
             Some(value) => read_number(sink, value, field),
@@ -160,7 +204,12 @@ impl<'a, 'i> TableReader<'a, 'i> {
     }
 
     /// A whole number, as i64.
-    pub(crate) fn whole(&mut self, sink: &mut Sink<'_>, key: &'static str, required: bool) -> Option<Val<i64>> {
+    pub(crate) fn whole(
+        &mut self,
+        sink: &mut Sink<'_>,
+        key: &'static str,
+        required: bool,
+    ) -> Option<Val<i64>> {
         let value = match self.get(key) {
             Some(v) => v,
             None => {
@@ -170,13 +219,23 @@ impl<'a, 'i> TableReader<'a, 'i> {
                 return None;
             }
         };
-        let loc = Loc { line: sink.line_of(&value.span()), field: self.field(key) };
+        let loc = Loc {
+            line: sink.line_of(&value.span()),
+            field: self.field(key),
+        };
         match value.get_ref() {
             DeValue::Integer(i) => match i64::from_str_radix(i.as_str(), i.radix()) {
                 Ok(v) => Some(Val { value: v, loc }),
                 Err(_) => {
                     let text = sink.snippet(&value.span());
-                    sink.report(&loc, format!("got {text}, must be a whole number between {} and {}", i64::MIN, i64::MAX));
+                    sink.report(
+                        &loc,
+                        format!(
+                            "got {text}, must be a whole number between {} and {}",
+                            i64::MIN,
+                            i64::MAX
+                        ),
+                    );
                     None
                 }
             },
@@ -204,7 +263,10 @@ impl<'a, 'i> TableReader<'a, 'i> {
                 None => ok = false,
             }
         }
-        ok.then_some(Val { value: out, loc: array.loc })
+        ok.then_some(Val {
+            value: out,
+            loc: array.loc,
+        })
     }
 
     /// An array of strings; each element keeps its own location.
@@ -219,17 +281,29 @@ impl<'a, 'i> TableReader<'a, 'i> {
         let mut out = Vec::with_capacity(array.value.len());
         let mut ok = true;
         for (i, element) in array.value.iter().enumerate() {
-            let loc = Loc { line: sink.line_of(&element.span()), field: format!("{field}[{i}]") };
+            let loc = Loc {
+                line: sink.line_of(&element.span()),
+                field: format!("{field}[{i}]"),
+            };
             match element.get_ref() {
-                DeValue::String(s) => out.push(Val { value: s.to_string(), loc }),
+                DeValue::String(s) => out.push(Val {
+                    value: s.to_string(),
+                    loc,
+                }),
                 other => {
                     let text = sink.snippet(&element.span());
-                    sink.report(&loc, format!("got {text} (a {}), must be a string", other.type_str()));
+                    sink.report(
+                        &loc,
+                        format!("got {text} (a {}), must be a string", other.type_str()),
+                    );
                     ok = false;
                 }
             }
         }
-        ok.then_some(Val { value: out, loc: array.loc })
+        ok.then_some(Val {
+            value: out,
+            loc: array.loc,
+        })
     }
 
     fn array(
@@ -249,9 +323,13 @@ impl<'a, 'i> TableReader<'a, 'i> {
             }
         };
         match value.get_ref() {
-            DeValue::Array(a) => {
-                Some(Val { value: a.as_ref(), loc: Loc { line: sink.line_of(&value.span()), field: self.field(key) } })
-            }
+            DeValue::Array(a) => Some(Val {
+                value: a.as_ref(),
+                loc: Loc {
+                    line: sink.line_of(&value.span()),
+                    field: self.field(key),
+                },
+            }),
             _ => {
                 self.wrong_type(sink, key, value, what);
                 None
@@ -260,7 +338,12 @@ impl<'a, 'i> TableReader<'a, 'i> {
     }
 
     /// A sub-table, returned as a reader of its own.
-    pub(crate) fn table(&mut self, sink: &mut Sink<'_>, key: &'static str, required: bool) -> Option<TableReader<'a, 'i>> {
+    pub(crate) fn table(
+        &mut self,
+        sink: &mut Sink<'_>,
+        key: &'static str,
+        required: bool,
+    ) -> Option<TableReader<'a, 'i>> {
         let value = match self.get(key) {
             Some(v) => v,
             None => {
@@ -293,7 +376,11 @@ impl<'a, 'i> TableReader<'a, 'i> {
                 DeValue::Table(t) => out.push(TableReader::new(t, path, line)),
                 other => {
                     let text = sink.snippet(&element.span());
-                    sink.report_line(Some(line), path, format!("got {text} (a {}), must be a table", other.type_str()));
+                    sink.report_line(
+                        Some(line),
+                        path,
+                        format!("got {text} (a {}), must be a table", other.type_str()),
+                    );
                 }
             }
         }
@@ -306,15 +393,30 @@ impl<'a, 'i> TableReader<'a, 'i> {
         for (key, value) in self.table.iter() {
             let name = key.get_ref().to_string();
             let field = self.field(&name);
-            let key_loc = Loc { line: sink.line_of(&key.span()), field: field.clone() };
+            let key_loc = Loc {
+                line: sink.line_of(&key.span()),
+                field: field.clone(),
+            };
             match value.get_ref() {
                 DeValue::String(s) => out.push((
-                    Val { value: name, loc: key_loc },
-                    Val { value: s.to_string(), loc: Loc { line: sink.line_of(&value.span()), field } },
+                    Val {
+                        value: name,
+                        loc: key_loc,
+                    },
+                    Val {
+                        value: s.to_string(),
+                        loc: Loc {
+                            line: sink.line_of(&value.span()),
+                            field,
+                        },
+                    },
                 )),
                 other => {
                     let text = sink.snippet(&value.span());
-                    sink.report(&key_loc, format!("got {text} (a {}), must be a string", other.type_str()));
+                    sink.report(
+                        &key_loc,
+                        format!("got {text} (a {}), must be a string", other.type_str()),
+                    );
                 }
             }
         }
@@ -341,22 +443,34 @@ impl<'a, 'i> TableReader<'a, 'i> {
 }
 
 fn read_number(sink: &mut Sink<'_>, value: &Spanned<DeValue<'_>>, field: String) -> Option<Val<f64>> {
-    let loc = Loc { line: sink.line_of(&value.span()), field };
+    let loc = Loc {
+        line: sink.line_of(&value.span()),
+        field,
+    };
     let parsed = match value.get_ref() {
         DeValue::Integer(i) => i64::from_str_radix(i.as_str(), i.radix()).ok().map(|v| v as f64),
         DeValue::Float(f) => f.as_str().parse::<f64>().ok(),
         other => {
             let text = sink.snippet(&value.span());
-            sink.report(&loc, format!("got {text} (a {}), must be a number", other.type_str()));
+            sink.report(
+                &loc,
+                format!("got {text} (a {}), must be a number", other.type_str()),
+            );
             return None;
         }
     };
     match parsed {
         // -0.0 is stored as 0.0 so that the canonical form has one zero.
-        Some(v) => Some(Val { value: if v == 0.0 { 0.0 } else { v }, loc }),
+        Some(v) => Some(Val {
+            value: if v == 0.0 { 0.0 } else { v },
+            loc,
+        }),
         None => {
             let text = sink.snippet(&value.span());
-            sink.report(&loc, format!("got {text}, must be a number that fits a 64-bit float"));
+            sink.report(
+                &loc,
+                format!("got {text}, must be a number that fits a 64-bit float"),
+            );
             None
         }
     }

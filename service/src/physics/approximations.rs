@@ -13,9 +13,14 @@
 //!   radius rho of the target; for a target of net charge Z the attractive Coulomb field
 //!   enlarges the cross-section to sigma = pi rho^2 (1 + Z e^2 / (4 pi eps0 rho E)), E the
 //!   incident kinetic energy (classical closest approach with angular momentum conserved).
-//!   With Omega = g_l (E/Ry) sigma / (pi a0^2), r = rho/a0 and e^2/(4 pi eps0 a0) = 2 Ry:
-//!   Omega(E) = s g_l (r^2 E/Ry + 2 Z r), s a dimensionless strength of order unity, and the
-//!   Maxwell average is Upsilon = s g_l (r^2 (kT + dE)/Ry + 2 Z r) in closed form.
+//!   With Omega = g_l (E/Ry) sigma / (pi a0^2), r = rho/a0 and e^2/(4 pi eps0 a0) = 2 Ry,
+//!   Omega(E) is proportional to f(E) = r^2 E/Ry + 2 Z r. The cross-section fixes only the
+//!   energy dependence: the scale is a collision strength s of order unity at threshold,
+//!   Omega(E) = s f(E) / f(dE), so Omega(dE) = s whatever the radius (the absolute
+//!   geometric-plus-focusing value overestimates real forbidden-line collision strengths by
+//!   5-10x for singly charged ions; our choice). Since f is linear in E, the Maxwell average is
+//!   Upsilon = s f(kT + dE) / f(dE) in closed form: nearly constant for ions, where focusing
+//!   dominates, and growing like kT/dE for neutral targets.
 
 use super::constants::KELVIN_PER_RYDBERG;
 use super::error::{PhysicsError, require_non_negative, require_positive};
@@ -104,7 +109,6 @@ pub fn hydrogenic_mean_radius_bohr(binding_energy_ry: f64, core_charge: f64) -> 
 /// Parameters of the semi-classical estimate for one transition.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct SemiClassicalEstimate {
-    g_lower: f64,
     delta_e_ry: f64,
     radius_bohr: f64,
     ion_charge: f64,
@@ -112,26 +116,18 @@ pub struct SemiClassicalEstimate {
 }
 
 impl SemiClassicalEstimate {
-    /// Default dimensionless strength s.
+    /// Default dimensionless strength s: the collision strength at threshold.
     pub const DEFAULT_STRENGTH: f64 = 1.0;
 
-    /// Validate: `g_lower` (> 0), `delta_e_ry` (Ry, > 0), `radius_bohr` interaction radius
-    /// (a0, > 0; see [`hydrogenic_mean_radius_bohr`]), `ion_charge` net charge Z of the target
-    /// (>= 0, 0 for neutral), `strength` s (> 0, order unity).
-    pub fn new(
-        g_lower: f64,
-        delta_e_ry: f64,
-        radius_bohr: f64,
-        ion_charge: f64,
-        strength: f64,
-    ) -> Result<Self, PhysicsError> {
-        require_positive(g_lower, "", || "g_lower".to_owned())?;
+    /// Validate: `delta_e_ry` (Ry, > 0), `radius_bohr` interaction radius (a0, > 0; see
+    /// [`hydrogenic_mean_radius_bohr`]), `ion_charge` net charge Z of the target (>= 0, 0 for
+    /// neutral), `strength` s (> 0, order unity), the collision strength at threshold.
+    pub fn new(delta_e_ry: f64, radius_bohr: f64, ion_charge: f64, strength: f64) -> Result<Self, PhysicsError> {
         require_positive(delta_e_ry, "Ry", || "delta_e_ry".to_owned())?;
         require_positive(radius_bohr, "a0", || "radius_bohr".to_owned())?;
         require_non_negative(ion_charge, "", || "ion_charge".to_owned())?;
         require_positive(strength, "", || "strength".to_owned())?;
         Ok(Self {
-            g_lower,
             delta_e_ry,
             radius_bohr,
             ion_charge,
@@ -152,11 +148,14 @@ impl SemiClassicalEstimate {
         Ok(self.omega_with_mean_incident(t_k / KELVIN_PER_RYDBERG + self.delta_e_ry))
     }
 
-    /// s g_l (r^2 E/Ry + 2 Z r): linear in E, so it serves for both Omega and its average.
+    /// s f(E) / f(dE) with f(E) = r^2 E/Ry + 2 Z r: linear in E, so it serves for both Omega
+    /// and its Maxwell average.
     fn omega_with_mean_incident(&self, incident_ry: f64) -> Approximate {
         let r = self.radius_bohr;
+        let focusing = 2.0 * self.ion_charge * r;
+        let shape = |e: f64| r * r * e + focusing;
         Approximate {
-            value: self.strength * self.g_lower * (r * r * incident_ry + 2.0 * self.ion_charge * r),
+            value: self.strength * shape(incident_ry) / shape(self.delta_e_ry),
             method: ApproximationMethod::SemiClassical,
         }
     }
@@ -172,7 +171,7 @@ mod tests {
         let v = van_regemorter_upsilon(0.1, 0.5, 1.0e4, TargetCharge::PositiveIon).unwrap();
         assert_eq!(v.method, ApproximationMethod::VanRegemorter);
         assert!(van_regemorter_upsilon(0.1, 0.0, 1.0e4, TargetCharge::Neutral).is_err());
-        assert!(SemiClassicalEstimate::new(1.0, 0.1, 1.0, -1.0, 1.0).is_err());
+        assert!(SemiClassicalEstimate::new(0.1, 1.0, -1.0, 1.0).is_err());
         assert!(van_regemorter_gaunt_factor(0.0, TargetCharge::Neutral).is_nan());
     }
 }

@@ -113,11 +113,12 @@ pub fn transition_source(
         }
         CollisionData::Estimate(EstimateMethod::CoulombFocusing { strength }) => {
             // The lower level's binding energy is at least the transition energy (the upper
-            // level is bound), so using dE gives an upper bound on the hydrogenic radius.
+            // level is bound), so dE gives an upper bound on the hydrogenic radius. The radius
+            // only shapes the energy dependence; the scale is the strength at threshold.
             let radius =
                 hydrogenic_mean_radius_bohr(delta_e_ry, f64::from(species.ion_charge) + 1.0).map_err(wrap)?;
             let estimate =
-                SemiClassicalEstimate::new(level_l.weight, delta_e_ry, radius, f64::from(species.ion_charge), *strength)
+                SemiClassicalEstimate::new(delta_e_ry, radius, f64::from(species.ion_charge), *strength)
                     .map_err(wrap)?;
             (Box::new(SemiClassical(estimate)), grid_range_k, true)
         }
