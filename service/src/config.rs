@@ -374,6 +374,7 @@ mod tests {
         assert_eq!(c.max_solve_points, 9);
         assert_eq!(c.data_dir, Some(dir.join("sets")));
         assert_eq!(c.listen, SocketAddr::from(([127, 0, 0, 1], 50051)));
+        std::fs::remove_dir_all(&dir).unwrap();
     }
 
     #[test]
@@ -388,6 +389,7 @@ mod tests {
         })
         .unwrap_err();
         assert!(err.to_string().contains("max_in_flihgt"), "{err}");
+        std::fs::remove_dir_all(&dir).unwrap();
         let err = Config::resolve(&Flags {
             grid_t_min_k: Some(-5.0),
             ..Flags::default()

@@ -18,7 +18,7 @@ use ratewell_proto::pb::{
     populations_server::PopulationsServer, rates_server::RatesServer, transport_server::TransportServer,
 };
 use std::future::Future;
-use std::time::Instant;
+use std::time::{Duration, Instant};
 use tokio::net::TcpListener;
 use tokio_stream::StreamExt;
 use tokio_stream::wrappers::TcpListenerStream;
@@ -77,17 +77,34 @@ pub async fn serve(
     shutdown: impl Future<Output = ()> + Send + 'static,
     started: Instant,
 ) -> Result<(), ServerError> {
-    let state = AppState::new(engine, config.max_in_flight);
+    let (cut_tx, cut_rx) = tokio::sync::watch::channel(false);
+    let state = AppState::new(engine, config.max_in_flight, config.request_timeout, cut_rx);
     let limit = config.max_message_bytes;
     let (health, health_service) = tonic_health::server::health_reporter();
-    let reflection_v1 = tonic_reflection::server::Builder::configure()
-        .register_encoded_file_descriptor_set(ratewell_proto::FILE_DESCRIPTOR_SET)
-        .register_encoded_file_descriptor_set(tonic_health::pb::FILE_DESCRIPTOR_SET)
-        .build_v1()?;
-    let reflection_v1alpha = tonic_reflection::server::Builder::configure()
-        .register_encoded_file_descriptor_set(ratewell_proto::FILE_DESCRIPTOR_SET)
-        .register_encoded_file_descriptor_set(tonic_health::pb::FILE_DESCRIPTOR_SET)
-        .build_v1alpha()?;
+    // Reflection names exactly the services served (Transport only when enabled).
+    let mut served: Vec<&str> = vec![
+        "ratewell.v1.Catalogue",
+        "ratewell.v1.Rates",
+        "ratewell.v1.Populations",
+        "ratewell.v1.Consistency",
+        "ratewell.v1.Admin",
+        "grpc.health.v1.Health",
+        "grpc.reflection.v1.ServerReflection",
+        "grpc.reflection.v1alpha.ServerReflection",
+    ];
+    if config.benchmark_endpoints {
+        served.push("ratewell.v1.Transport");
+    }
+    let reflection = || {
+        served.iter().fold(
+            tonic_reflection::server::Builder::configure()
+                .register_encoded_file_descriptor_set(ratewell_proto::FILE_DESCRIPTOR_SET)
+                .register_encoded_file_descriptor_set(tonic_health::pb::FILE_DESCRIPTOR_SET),
+            |b, name| b.with_service_name(*name),
+        )
+    };
+    let reflection_v1 = reflection().build_v1()?;
+    let reflection_v1alpha = reflection().build_v1alpha()?;
 
     macro_rules! limited {
         ($server:ident, $handler:expr) => {
@@ -103,7 +120,9 @@ pub async fn serve(
     health.set_serving::<AdminServer<AdminHandler>>().await;
 
     let mut builder = tonic::transport::Server::builder()
-        .timeout(config.request_timeout)
+        // A backstop only: AppState answers DEADLINE_EXCEEDED at request_timeout first (the
+        // transport's own timer would answer CANCELLED).
+        .timeout(config.request_timeout + Duration::from_secs(1))
         .http2_keepalive_interval(Some(config.keepalive_interval))
         .http2_keepalive_timeout(Some(config.keepalive_timeout))
         .tcp_nodelay(true);
@@ -156,12 +175,17 @@ pub async fn serve(
     health.set_not_serving::<AdminServer<AdminHandler>>().await;
     tokio::time::sleep(config.drain).await;
     let _ = stop_tx.send(());
+    let abort = server.abort_handle();
     match tokio::time::timeout(config.shutdown_grace, server).await {
         Ok(joined) => joined??,
-        Err(_) => tracing::warn!(
-            grace_s = config.shutdown_grace.as_secs_f64(),
-            "in-flight calls did not finish within the grace period; stopping anyway"
-        ),
+        Err(_) => {
+            tracing::warn!(
+                grace_s = config.shutdown_grace.as_secs_f64(),
+                "in-flight calls did not finish within the grace period; cutting them"
+            );
+            let _ = cut_tx.send(true);
+            abort.abort();
+        }
     }
     tracing::info!("stopped");
     Ok(())

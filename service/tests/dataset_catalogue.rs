@@ -1,10 +1,11 @@
 //! The demo datasets and the catalogue: embedded and on-disk copies agree, versions differ,
 //! folders load, lookups find what they should.
 
+use ratewell_service::engine::{Engine, EngineConfig, Selector};
 use std::path::{Path, PathBuf};
 
 use ratewell_service::dataset::{
-    Catalogue, CollisionData, DatasetError, EMBEDDED_DEMO_ORIGIN, EstimateMethod, TransitionType,
+    CollisionData, EstimateMethod, TransitionType,
     demo_dataset, find_dataset_dirs, load_folder,
 };
 
@@ -159,7 +160,7 @@ fn lookups_find_levels_and_transitions() {
             strength: 1.0
         }))
     );
-    assert_eq!(TransitionType::WeakAllowed.burgess_tully_type(), 4);
+    assert_eq!(TransitionType::WeakAllowed.burgess_tully_number(), 4);
 }
 
 #[test]
@@ -178,65 +179,36 @@ fn the_two_demo_versions_differ_in_hash_and_in_a_few_numbers() {
 }
 
 #[test]
-fn catalogue_loads_the_data_folder() {
+fn the_data_folder_holds_both_demo_versions_and_the_newest_is_selected() {
     let dirs = find_dataset_dirs(&data_dir()).expect("readable");
     assert_eq!(dirs.len(), 2, "{dirs:?}");
-    let mut catalogue = Catalogue::load_dir(&data_dir()).expect("data folder loads");
-    assert_eq!(catalogue.len(), 2);
-    assert_eq!(
-        catalogue.latest("demo").map(|d| d.version.as_str()),
-        Some("1.1.0")
-    );
-    let v1 = catalogue.get("demo", "1.0.0").expect("v1").clone();
-    assert!(catalogue.get("demo", "2.0.0").is_none());
-    assert_eq!(
-        catalogue.by_hash(&v1.content_hash).map(|d| d.version.as_str()),
-        Some("1.0.0")
-    );
-    assert_eq!(
-        catalogue.by_hash(v1.short_hash()).map(|d| d.version.as_str()),
-        Some("1.0.0")
-    );
-    assert!(
-        catalogue.by_hash(&v1.content_hash[..8]).is_none(),
-        "fewer than 16 digits must not match"
-    );
-    assert!(
-        catalogue
-            .entry("demo", "1.0.0")
-            .is_some_and(|e| e.origin.ends_with("demo"))
-    );
-    // the embedded copy of 1.0.0 is refused as a duplicate
-    let embedded = demo_dataset().expect("embedded");
-    match catalogue.insert(embedded, EMBEDDED_DEMO_ORIGIN) {
-        Err(DatasetError::Duplicate {
-            id, version, second, ..
-        }) => {
-            assert_eq!(
-                (id.as_str(), version.as_str(), second.as_str()),
-                ("demo", "1.0.0", EMBEDDED_DEMO_ORIGIN)
-            );
-        }
-        other => panic!("expected Duplicate, got {other:?}"),
+    let engine = Engine::new(EngineConfig::default());
+    for dir in &dirs {
+        engine.load_path(dir).expect("loads");
     }
-    assert_eq!(catalogue.len(), 2);
+    let newest = engine.select(&Selector { id: "demo".into(), version: None, expected_hash: None }).unwrap();
+    assert_eq!(newest.stamp.version, "1.1.0");
+    let v1 = engine
+        .select(&Selector { id: "demo".into(), version: Some("1.0.0".into()), expected_hash: None })
+        .unwrap();
+    // the embedded copy is the same dataset as the 1.0.0 folder
+    assert_eq!(v1.stamp.content_hash, demo_dataset().unwrap().content_hash);
+    assert!(engine
+        .select(&Selector { id: "demo".into(), version: Some("2.0.0".into()), expected_hash: None })
+        .is_err());
 }
 
 #[test]
-fn latest_compares_versions_as_numbers() {
-    let mut catalogue = Catalogue::new();
+fn newest_compares_versions_as_numbers() {
+    let engine = Engine::new(EngineConfig::default());
     for version in ["1.9.0", "1.10.0", "1.2.3"] {
         let mut d = demo_dataset().expect("demo");
         d.version = version.to_string();
-        catalogue
-            .insert(d, format!("test {version}"))
-            .expect("distinct versions");
+        engine.install(d).expect("distinct versions");
     }
-    assert_eq!(
-        catalogue.latest("demo").map(|d| d.version.as_str()),
-        Some("1.10.0")
-    );
-    let order: Vec<&str> = catalogue.datasets().map(|d| d.version.as_str()).collect();
+    let newest = engine.select(&Selector { id: "demo".into(), version: None, expected_hash: None }).unwrap();
+    assert_eq!(newest.stamp.version, "1.10.0");
+    let order: Vec<String> = engine.datasets().iter().map(|d| d.stamp.version.clone()).collect();
     assert_eq!(order, ["1.2.3", "1.9.0", "1.10.0"]);
 }
 

@@ -1,1 +1,23 @@
-//! End-to-end test helpers (being written).
+//! End-to-end test helpers for ratewell.
+//!
+//! Module map:
+//! - [`server`]: [`TestServer`] spawns the real server (`ratewell_service::server::run`) on
+//!   127.0.0.1:0 with a chosen [`Config`](ratewell_service::config::Config), waits for standard
+//!   health checking to report SERVING, hands out raw tonic clients, and shuts the server down
+//!   through a oneshot, awaiting its end.
+//! - [`codata`]: the CODATA constants and the published rate constant the tests check against.
+//! - [`data`]: [`TempDataDir`], a uniquely named folder under the system temporary folder
+//!   holding copies of the repository's datasets and a deliberately broken one; removed on drop.
+//! - [`dataset_text`]: the repository's dataset files read as plain TOML, so expectations come
+//!   from the text rather than from the server's loader.
+//! - [`requests`]: builders for the wire requests the tests send, and status assertions
+//!   (code, key words of the message, tonic-types BadRequest field violations).
+
+pub mod codata;
+pub mod data;
+pub mod dataset_text;
+pub mod requests;
+pub mod server;
+
+pub use data::{BrokenDataset, TempDataDir, repo_path};
+pub use server::{TestServer, test_config};

@@ -1,6 +1,6 @@
 //! Admin service: load or reload a dataset folder; a failure leaves the old data serving.
 
-use super::AppState;
+use super::{AppState, deadline_of};
 use super::convert::stamp;
 use ratewell_proto::pb::{self, admin_server::Admin};
 use tonic::{Request, Response, Status};
@@ -15,9 +15,10 @@ impl Admin for AdminHandler {
         &self,
         request: Request<pb::LoadDatasetRequest>,
     ) -> Result<Response<pb::LoadDatasetResponse>, Status> {
+        let deadline = deadline_of(&request);
         let folder = request.into_inner().folder;
         let log_folder = folder.clone();
-        let result = self.0.run(move |engine| engine.load_folder(&folder)).await;
+        let result = self.0.run(deadline, move |engine| engine.load_folder(&folder)).await;
         match &result {
             Ok(report) => tracing::info!(
                 folder = %log_folder,

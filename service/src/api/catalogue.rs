@@ -1,6 +1,6 @@
 //! Catalogue service: datasets, species, levels, transitions.
 
-use super::AppState;
+use super::{AppState, deadline_of};
 use super::convert::{grid_spec_to_wire, selector, stamp};
 use crate::dataset::{CollisionData, Species};
 use crate::engine::EngineError;
@@ -42,9 +42,10 @@ impl Catalogue for CatalogueHandler {
         &self,
         request: Request<pb::DescribeSpeciesRequest>,
     ) -> Result<Response<pb::DescribeSpeciesResponse>, Status> {
+        let deadline = deadline_of(&request);
         let req = request.into_inner();
         self.0
-            .run(move |engine| {
+            .run(deadline, move |engine| {
                 let loaded = engine.select(&selector(req.dataset.as_ref(), "dataset")?)?;
                 let species = loaded
                     .dataset

@@ -1,6 +1,6 @@
 //! Consistency service: comparison of two datasets.
 
-use super::AppState;
+use super::{AppState, deadline_of};
 use super::convert::{compare_answer, compare_query};
 use ratewell_proto::pb::{self, consistency_server::Consistency};
 use tonic::{Request, Response, Status};
@@ -15,9 +15,10 @@ impl Consistency for ConsistencyHandler {
         &self,
         request: Request<pb::CompareDatasetsRequest>,
     ) -> Result<Response<pb::CompareDatasetsResponse>, Status> {
+        let deadline = deadline_of(&request);
         let req = request.into_inner();
         self.0
-            .run(move |engine| Ok(compare_answer(engine.compare(&compare_query(&req)?)?)))
+            .run(deadline, move |engine| Ok(compare_answer(engine.compare(&compare_query(&req)?)?)))
             .await
             .map(Response::new)
     }

@@ -21,6 +21,29 @@ use tonic_types::{ErrorDetails, StatusExt};
 /// The wait suggested to a client whose call was shed.
 const SHED_RETRY_HINT: Duration = Duration::from_millis(50);
 
+/// How long before a client's deadline the server gives up and answers DEADLINE_EXCEEDED.
+const DEADLINE_MARGIN: Duration = Duration::from_millis(5);
+
+/// The client's deadline from the `grpc-timeout` header (gRPC over HTTP/2 spec: at most 8
+/// digits and a unit H, M, S, m, u or n), if it sent one.
+pub fn deadline_of<T>(request: &tonic::Request<T>) -> Option<Duration> {
+    let text = request.metadata().get("grpc-timeout")?.to_str().ok()?;
+    let (digits, unit) = text.split_at(text.len().checked_sub(1)?);
+    if digits.is_empty() || digits.len() > 8 {
+        return None;
+    }
+    let value: u64 = digits.parse().ok()?;
+    Some(match unit {
+        "H" => Duration::from_secs(value.saturating_mul(3600)),
+        "M" => Duration::from_secs(value.saturating_mul(60)),
+        "S" => Duration::from_secs(value),
+        "m" => Duration::from_millis(value),
+        "u" => Duration::from_micros(value),
+        "n" => Duration::from_nanos(value),
+        _ => return None,
+    })
+}
+
 /// State shared by every handler. Cheap to clone.
 #[derive(Clone)]
 pub struct AppState {
@@ -28,21 +51,36 @@ pub struct AppState {
     pub engine: Engine,
     permits: Arc<Semaphore>,
     max_in_flight: usize,
+    request_timeout: Duration,
+    cut: tokio::sync::watch::Receiver<bool>,
 }
 
 impl AppState {
-    /// State over `engine` admitting at most `max_in_flight` engine calls at once; further
-    /// calls are shed with RESOURCE_EXHAUSTED (clients retry with backoff).
-    pub fn new(engine: Engine, max_in_flight: usize) -> Self {
+    /// State over `engine` admitting at most `max_in_flight` engine calls at once (further
+    /// calls are shed with RESOURCE_EXHAUSTED and a retry hint) and bounding every call by
+    /// `request_timeout` (answered DEADLINE_EXCEEDED).
+    /// `cut` turning true ends every call still in flight with UNAVAILABLE (used when the
+    /// shutdown grace period runs out).
+    pub fn new(
+        engine: Engine,
+        max_in_flight: usize,
+        request_timeout: Duration,
+        cut: tokio::sync::watch::Receiver<bool>,
+    ) -> Self {
         Self {
             engine,
             permits: Arc::new(Semaphore::new(max_in_flight)),
             max_in_flight,
+            request_timeout,
+            cut,
         }
     }
 
-    /// Runs `work` on the blocking pool under a concurrency permit and maps its error.
-    pub async fn run<T, F>(&self, work: F) -> Result<T, Status>
+    /// Runs `work` on the blocking pool under a concurrency permit and maps its error. At the
+    /// earlier of the client's deadline and `request_timeout` the call answers
+    /// DEADLINE_EXCEEDED, a few milliseconds early so the status reaches the client before the
+    /// transport's own timer cancels the call. (The blocking work itself runs to completion.)
+    pub async fn run<T, F>(&self, deadline: Option<Duration>, work: F) -> Result<T, Status>
     where
         T: Send + 'static,
         F: FnOnce(&Engine) -> Result<T, EngineError> + Send + 'static,
@@ -60,11 +98,26 @@ impl AppState {
             )
         })?;
         let engine = self.engine.clone();
-        let joined = tokio::task::spawn_blocking(move || {
+        let task = tokio::task::spawn_blocking(move || {
             let _permit = permit;
             work(&engine)
-        })
-        .await;
+        });
+        let limit = deadline.map_or(self.request_timeout, |d| d.min(self.request_timeout));
+        let mut cut = self.cut.clone();
+        let joined = tokio::select! {
+            finished = tokio::time::timeout(limit.saturating_sub(DEADLINE_MARGIN), task) => match finished {
+                Ok(joined) => joined,
+                Err(_) => {
+                    return Err(Status::deadline_exceeded(format!(
+                        "deadline of {:.3} s exceeded before the answer was ready",
+                        limit.as_secs_f64()
+                    )));
+                }
+            },
+            _ = cut.wait_for(|&c| c) => {
+                return Err(Status::unavailable("server stopping: call cut when the shutdown grace period ran out"));
+            }
+        };
         match joined {
             Ok(result) => result.map_err(|e| {
                 tracing::debug!(error = %e, "request refused");
@@ -75,5 +128,28 @@ impl AppState {
                 Err(Status::internal("internal error while computing the answer; the server keeps serving"))
             }
         }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn grpc_timeout_headers_parse_as_the_spec_says() {
+        // gRPC over HTTP/2 protocol spec, "Timeout" (common practice, no further source).
+        let with = |v: &str| {
+            let mut r = tonic::Request::new(());
+            r.metadata_mut().insert("grpc-timeout", v.parse().unwrap());
+            deadline_of(&r)
+        };
+        assert_eq!(with("100m"), Some(Duration::from_millis(100)));
+        assert_eq!(with("2S"), Some(Duration::from_secs(2)));
+        assert_eq!(with("1H"), Some(Duration::from_secs(3600)));
+        assert_eq!(with("5000u"), Some(Duration::from_micros(5000)));
+        assert_eq!(with("123456789m"), None);
+        assert_eq!(with("m"), None);
+        assert_eq!(with("10x"), None);
+        assert_eq!(deadline_of(&tonic::Request::new(())), None);
     }
 }

@@ -1,6 +1,6 @@
 //! Populations service: statistical-equilibrium solves.
 
-use super::AppState;
+use super::{AppState, deadline_of};
 use super::convert::{solve_answer, solve_query};
 use ratewell_proto::pb::{self, populations_server::Populations};
 use tonic::{Request, Response, Status};
@@ -15,9 +15,10 @@ impl Populations for PopulationsHandler {
         &self,
         request: Request<pb::SolvePopulationsRequest>,
     ) -> Result<Response<pb::SolvePopulationsResponse>, Status> {
+        let deadline = deadline_of(&request);
         let req = request.into_inner();
         self.0
-            .run(move |engine| Ok(solve_answer(engine.solve(&solve_query(&req)?)?)))
+            .run(deadline, move |engine| Ok(solve_answer(engine.solve(&solve_query(&req)?)?)))
             .await
             .map(Response::new)
     }

@@ -1,6 +1,6 @@
 //! Rates service: fetch tables for local evaluation, batched lookups, streamed lookups.
 
-use super::AppState;
+use super::{AppState, deadline_of};
 use super::convert::{grid_spec, lookup_answer, lookup_query, selector, stamp};
 use ratewell_proto::pb::{self, rates_server::Rates};
 use ratewell_proto::wire::{grid_to_wire, table_to_wire};
@@ -21,9 +21,10 @@ impl Rates for RatesHandler {
         &self,
         request: Request<pb::FetchTablesRequest>,
     ) -> Result<Response<pb::FetchTablesResponse>, Status> {
+        let deadline = deadline_of(&request);
         let req = request.into_inner();
         self.0
-            .run(move |engine| {
+            .run(deadline, move |engine| {
                 let loaded = engine.select(&selector(req.dataset.as_ref(), "dataset")?)?;
                 let tables = engine.species_tables(&loaded, &req.species, grid_spec(req.grid.as_ref()))?;
                 Ok(pb::FetchTablesResponse {
@@ -42,9 +43,10 @@ impl Rates for RatesHandler {
         &self,
         request: Request<pb::LookupRatesRequest>,
     ) -> Result<Response<pb::LookupRatesResponse>, Status> {
+        let deadline = deadline_of(&request);
         let req = request.into_inner();
         self.0
-            .run(move |engine| Ok(lookup_answer(engine.lookup(&lookup_query(&req)?)?)))
+            .run(deadline, move |engine| Ok(lookup_answer(engine.lookup(&lookup_query(&req)?)?)))
             .await
             .map(Response::new)
     }
@@ -55,14 +57,18 @@ impl Rates for RatesHandler {
         &self,
         request: Request<Streaming<pb::LookupRatesRequest>>,
     ) -> Result<Response<Self::LookupRatesStreamStream>, Status> {
+        let deadline = deadline_of(&request);
+        let started = std::time::Instant::now();
         let mut incoming = request.into_inner();
         let state = self.0.clone();
         let output = async_stream_of(move |tx| async move {
             while let Some(next) = incoming.next().await {
                 let answer = match next {
                     Ok(req) => {
+                        // The stream's deadline covers the whole stream.
+                        let left = deadline.map(|d| d.saturating_sub(started.elapsed()));
                         state
-                            .run(move |engine| Ok(lookup_answer(engine.lookup(&lookup_query(&req)?)?)))
+                            .run(left, move |engine| Ok(lookup_answer(engine.lookup(&lookup_query(&req)?)?)))
                             .await
                     }
                     Err(status) => Err(status),

@@ -41,10 +41,7 @@ fn load_status(error: &DatasetError, message: String) -> Status {
     match error {
         DatasetError::Io { source, .. } if source.kind() == std::io::ErrorKind::NotFound => Status::not_found(message),
         DatasetError::Io { .. } => Status::unavailable(message),
-        DatasetError::MissingManifest { .. }
-        | DatasetError::Invalid { .. }
-        | DatasetError::Duplicate { .. }
-        | DatasetError::Several { .. } => Status::failed_precondition(message),
+        DatasetError::MissingManifest { .. } | DatasetError::Invalid { .. } => Status::failed_precondition(message),
     }
 }
 

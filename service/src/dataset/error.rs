@@ -49,35 +49,14 @@ pub enum DatasetError {
         /// All problems, sorted by file and line.
         problems: Vec<Problem>,
     },
-    /// Two datasets with the same id and version were offered to one catalogue.
-    #[error("dataset `{id}` version {version} appears twice: in {first} and in {second}")]
-    Duplicate {
-        /// Dataset id.
-        id: String,
-        /// Dataset version.
-        version: String,
-        /// Where the first copy came from.
-        first: String,
-        /// Where the second copy came from.
-        second: String,
-    },
-    /// Several datasets of one data folder failed; each error is kept.
-    #[error("{} datasets failed to load:\n{}", errors.len(), list_errors(errors))]
-    Several {
-        /// One error per failed dataset, in folder order.
-        errors: Vec<DatasetError>,
-    },
 }
 
 impl DatasetError {
-    /// All located problems inside this error (empty for I/O and catalogue errors).
+    /// All located problems inside this error (empty for I/O and missing-manifest errors).
     pub fn problems(&self) -> Vec<&Problem> {
         match self {
             DatasetError::Invalid { problems } => problems.iter().collect(),
-            DatasetError::Several { errors } => errors.iter().flat_map(|e| e.problems()).collect(),
-            DatasetError::Io { .. }
-            | DatasetError::MissingManifest { .. }
-            | DatasetError::Duplicate { .. } => Vec::new(),
+            DatasetError::Io { .. } | DatasetError::MissingManifest { .. } => Vec::new(),
         }
     }
 }
@@ -91,10 +70,3 @@ fn list_problems(problems: &[Problem]) -> String {
     out
 }
 
-fn list_errors(errors: &[DatasetError]) -> String {
-    errors
-        .iter()
-        .map(|e| e.to_string())
-        .collect::<Vec<_>>()
-        .join("\n")
-}

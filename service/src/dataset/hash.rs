@@ -81,7 +81,7 @@ fn write_species(w: &mut Writer, s: &Species) {
     for t in collisions {
         w.whole(t.upper);
         w.whole(t.lower);
-        w.whole(u32::from(t.kind.burgess_tully_type()));
+        w.whole(u32::from(t.kind.burgess_tully_number()));
         write_data(w, &t.data);
         w.text(&t.source);
         w.maybe_number(t.relative_uncertainty);

@@ -147,54 +147,11 @@ pub struct CollisionalTransition {
     pub relative_uncertainty: Option<f64>,
 }
 
-/// Burgess & Tully (1992) transition types.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize)]
-pub enum TransitionType {
-    /// Type 1: electric-dipole allowed; file spelling `"allowed"`.
-    Allowed,
-    /// Type 2: forbidden, no spin change; file spelling `"forbidden"`.
-    Forbidden,
-    /// Type 3: spin change; file spelling `"spin-change"`.
-    SpinChange,
-    /// Type 4: allowed with a small oscillator strength; file spelling `"weak-allowed"`.
-    WeakAllowed,
-}
+/// Burgess & Tully (1992) transition types: the physics layer's type, with its file spellings.
+pub use crate::physics::transition::TransitionType;
 
 /// The file spellings of [`TransitionType`], for error messages.
 pub const TRANSITION_TYPES: &str = "\"allowed\", \"forbidden\", \"spin-change\", \"weak-allowed\"";
-
-impl TransitionType {
-    /// Parse the file spelling.
-    pub fn parse(text: &str) -> Option<Self> {
-        match text {
-            "allowed" => Some(TransitionType::Allowed),
-            "forbidden" => Some(TransitionType::Forbidden),
-            "spin-change" => Some(TransitionType::SpinChange),
-            "weak-allowed" => Some(TransitionType::WeakAllowed),
-            _ => None,
-        }
-    }
-
-    /// The file spelling.
-    pub fn as_str(self) -> &'static str {
-        match self {
-            TransitionType::Allowed => "allowed",
-            TransitionType::Forbidden => "forbidden",
-            TransitionType::SpinChange => "spin-change",
-            TransitionType::WeakAllowed => "weak-allowed",
-        }
-    }
-
-    /// The Burgess & Tully type number, 1 to 4.
-    pub fn burgess_tully_type(self) -> u8 {
-        match self {
-            TransitionType::Allowed => 1,
-            TransitionType::Forbidden => 2,
-            TransitionType::SpinChange => 3,
-            TransitionType::WeakAllowed => 4,
-        }
-    }
-}
 
 /// How the collision data of one transition are given.
 #[derive(Debug, Clone, PartialEq, Serialize)]

@@ -117,7 +117,7 @@ impl Registry {
         }
         .ok_or_else(unknown)?;
         if let Some(expected) = &selector.expected_hash
-            && expected != &found.stamp.content_hash
+            && !expected.eq_ignore_ascii_case(&found.stamp.content_hash)
         {
             return Err(EngineError::HashMismatch {
                 dataset: found.stamp.label(),

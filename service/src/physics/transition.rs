@@ -4,7 +4,7 @@
 use super::error::PhysicsError;
 
 /// Transition type, numbered as in Burgess & Tully (1992).
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash, serde::Serialize)]
 pub enum TransitionType {
     /// Type 1: electric-dipole allowed; Omega grows like ln(E) at high energy (Bethe).
     Allowed,
@@ -17,6 +17,27 @@ pub enum TransitionType {
 }
 
 impl TransitionType {
+    /// Parse the dataset-file spelling: "allowed", "forbidden", "spin-change", "weak-allowed".
+    pub fn parse(text: &str) -> Option<Self> {
+        match text {
+            "allowed" => Some(Self::Allowed),
+            "forbidden" => Some(Self::Forbidden),
+            "spin-change" => Some(Self::SpinChange),
+            "weak-allowed" => Some(Self::WeakAllowed),
+            _ => None,
+        }
+    }
+
+    /// The dataset-file spelling.
+    pub fn as_str(self) -> &'static str {
+        match self {
+            Self::Allowed => "allowed",
+            Self::Forbidden => "forbidden",
+            Self::SpinChange => "spin-change",
+            Self::WeakAllowed => "weak-allowed",
+        }
+    }
+
     /// The Burgess & Tully type number, 1 to 4.
     pub fn burgess_tully_number(self) -> u8 {
         match self {

@@ -2,14 +2,13 @@
 //! physics layer, together with the header its table carries (weights, energy, source range).
 
 use super::{TableError, UpsilonSource};
-use crate::dataset::{CollisionData, CollisionalTransition, EstimateMethod, Species, TransitionType as DataType};
+use crate::dataset::{CollisionData, CollisionalTransition, EstimateMethod, Species};
 use crate::physics::approximations::{
     SemiClassicalEstimate, TargetCharge, hydrogenic_mean_radius_bohr, van_regemorter_upsilon,
 };
 use crate::physics::constants::{KELVIN_PER_INVERSE_CM, KELVIN_PER_RYDBERG};
 use crate::physics::maxwell::{BelowFirstPoint, CollisionStrengthTable};
 use crate::physics::scaling::{BurgessTullyScaling, ScaledUpsilon};
-use crate::physics::transition::TransitionType;
 use crate::physics::{PhysicsError, units};
 use ratewell_proto::rule::TableHeader;
 
@@ -23,16 +22,6 @@ pub struct TransitionSource {
     pub header: TableHeader,
     /// Direct evaluation of Upsilon(T).
     pub source: Box<dyn UpsilonSource + Send>,
-}
-
-/// The physics type of a dataset transition type.
-pub fn physics_type(kind: DataType) -> TransitionType {
-    match kind {
-        DataType::Allowed => TransitionType::Allowed,
-        DataType::Forbidden => TransitionType::Forbidden,
-        DataType::SpinChange => TransitionType::SpinChange,
-        DataType::WeakAllowed => TransitionType::WeakAllowed,
-    }
 }
 
 /// Builds the source of one collisional transition of `species`. `grid_range_k` is the range
@@ -59,7 +48,7 @@ pub fn transition_source(
         .radiative_transition(upper, lower)
         .and_then(|r| r.oscillator_strength)
         .map(|f| f * level_l.weight);
-    let kind = physics_type(transition.kind);
+    let kind = transition.kind;
     let wrap = |e: PhysicsError| TableError::Source {
         species: species.name.clone(),
         upper,

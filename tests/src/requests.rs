@@ -1,0 +1,122 @@
+//! Wire requests the tests send (with every unit stated), temperature lists, and assertions on
+//! refused calls: the exact status code, the key words of the message, and the tonic-types
+//! BadRequest field violations.
+
+use ratewell_proto::pb;
+use tonic::{Code, Status};
+use tonic_types::StatusExt;
+
+/// Id of the embedded demo dataset (INVENTED data, see service/data/demo).
+pub const DEMO: &str = "demo";
+/// The 5-level demo species.
+pub const MK_III: &str = "Mk III";
+/// The 34-level demo species.
+pub const MK_II: &str = "Mk II";
+
+/// A selector for dataset `id` at `version` ("" = newest), not pinned.
+pub fn selector(id: &str, version: &str) -> pb::DatasetSelector {
+    pb::DatasetSelector {
+        id: id.to_string(),
+        version: version.to_string(),
+        expected_content_hash: String::new(),
+    }
+}
+
+/// A selector for the newest demo version.
+pub fn demo() -> pb::DatasetSelector {
+    selector(DEMO, "")
+}
+
+/// A lookup of every transition of `species` (newest demo) at `temperatures_k` (K), both
+/// directions, cm^3 s^-1, refusing temperatures outside the grid, on the default grid.
+pub fn lookup(species: &str, temperatures_k: Vec<f64>) -> pb::LookupRatesRequest {
+    pb::LookupRatesRequest {
+        dataset: Some(demo()),
+        species: species.to_string(),
+        transitions: Vec::new(),
+        temperatures: temperatures_k,
+        temperature_unit: pb::TemperatureUnit::Kelvin as i32,
+        direction: pb::Direction::Both as i32,
+        rate_unit: pb::RateUnit::CubicCentimetrePerSecond as i32,
+        outside_grid: pb::OutsideGrid::Refuse as i32,
+        grid: None,
+    }
+}
+
+/// A solve for `species` (newest demo): temperatures in K, densities in cm^-3, powers in W,
+/// every line reported, refusing temperatures outside the grid; `grid` combines every
+/// temperature with every density.
+pub fn solve(
+    species: &str,
+    temperatures_k: Vec<f64>,
+    densities_cm3: Vec<f64>,
+    grid: bool,
+) -> pb::SolvePopulationsRequest {
+    pb::SolvePopulationsRequest {
+        dataset: Some(demo()),
+        species: species.to_string(),
+        temperatures: temperatures_k,
+        temperature_unit: pb::TemperatureUnit::Kelvin as i32,
+        densities: densities_cm3,
+        density_unit: pb::DensityUnit::PerCubicCentimetre as i32,
+        grid,
+        outside_grid: pb::OutsideGrid::Refuse as i32,
+        power_unit: pb::PowerUnit::Watt as i32,
+        table_grid: None,
+        min_line_fraction: 0.0,
+    }
+}
+
+/// A transition key.
+pub fn key(upper: u32, lower: u32) -> pb::TransitionKey {
+    pb::TransitionKey { upper, lower }
+}
+
+/// `n` values spaced evenly in log from `min` to `max` (both included; `n` >= 2).
+pub fn log_spaced(min: f64, max: f64, n: usize) -> Vec<f64> {
+    assert!(n >= 2 && min > 0.0 && max > min);
+    let (a, b) = (min.log10(), max.log10());
+    (0..n)
+        .map(|i| 10f64.powf(a + (b - a) * i as f64 / (n - 1) as f64))
+        .collect()
+}
+
+/// The status of a call that must fail; panics with the answer if it succeeded.
+pub fn refused<T: std::fmt::Debug>(result: Result<tonic::Response<T>, Status>) -> Status {
+    match result {
+        Ok(r) => panic!("expected a refusal, got an answer: {:?}", r.into_inner()),
+        Err(status) => status,
+    }
+}
+
+/// Asserts the status code and that the message contains every one of `words`.
+pub fn assert_status(status: &Status, code: Code, words: &[&str]) {
+    assert_eq!(
+        status.code(),
+        code,
+        "expected {code:?}, got {:?}: {}",
+        status.code(),
+        status.message()
+    );
+    for w in words {
+        assert!(
+            status.message().contains(w),
+            "message of {code:?} lacks {w:?}: {}",
+            status.message()
+        );
+    }
+}
+
+/// The BadRequest field violations of a status, as (field, description); empty when the
+/// status carries none.
+pub fn field_violations(status: &Status) -> Vec<(String, String)> {
+    status
+        .get_details_bad_request()
+        .map(|b| {
+            b.field_violations
+                .into_iter()
+                .map(|v| (v.field, v.description))
+                .collect()
+        })
+        .unwrap_or_default()
+}

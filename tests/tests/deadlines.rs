@@ -1,0 +1,147 @@
+//! Deadlines end to end: a client deadline (grpc-timeout) shorter than a big population solve
+//! ends the call at the deadline, not when the solve finishes, and the server keeps serving;
+//! the status of such a call must be DEADLINE_EXCEEDED.
+
+use ratewell_e2e::requests::{MK_II, MK_III, assert_status, log_spaced, lookup, refused, solve};
+use ratewell_e2e::{TestServer, test_config};
+use ratewell_proto::pb;
+use std::time::{Duration, Instant};
+use tonic::{Code, Request};
+use tonic_health::pb::HealthCheckRequest;
+use tonic_health::pb::health_check_response::ServingStatus;
+
+/// The client's deadline.
+const DEADLINE: Duration = Duration::from_millis(100);
+
+/// A solve that takes about a second in a debug build: 34 levels at 20 x 20 points (only the
+/// strongest line reported, to keep the answer small).
+fn big_solve() -> pb::SolvePopulationsRequest {
+    let mut req = solve(MK_II, log_spaced(2e3, 2e5, 20), log_spaced(1e2, 1e10, 20), true);
+    req.min_line_fraction = 1.0;
+    req
+}
+
+fn with_deadline<T>(message: T, deadline: Duration) -> Request<T> {
+    let mut r = Request::new(message);
+    r.set_timeout(deadline);
+    r
+}
+
+#[tokio::test(flavor = "multi_thread", worker_threads = 2)]
+async fn a_short_deadline_ends_a_big_solve_and_the_server_keeps_serving() {
+    let server = TestServer::start().await;
+    // How long the solve takes with no deadline, on this machine, now.
+    let started = Instant::now();
+    let full = server
+        .populations()
+        .solve_populations(big_solve())
+        .await
+        .expect("solve without a deadline")
+        .into_inner();
+    let solve_time = started.elapsed();
+    assert_eq!(full.points.len(), 400);
+    assert!(
+        solve_time > DEADLINE * 3,
+        "the solve ({solve_time:?}) must be much longer than the deadline ({DEADLINE:?})"
+    );
+
+    let started = Instant::now();
+    let result = server
+        .populations()
+        .solve_populations(with_deadline(big_solve(), DEADLINE))
+        .await;
+    let waited = started.elapsed();
+    let status = refused(result);
+    assert!(
+        matches!(status.code(), Code::DeadlineExceeded | Code::Cancelled),
+        "deadline refusal, got {:?}: {}",
+        status.code(),
+        status.message()
+    );
+    assert!(
+        waited < solve_time,
+        "the call ended at its deadline ({waited:?}), not after the solve ({solve_time:?})"
+    );
+
+    // The server keeps serving: health, a lookup, and a solve with a deadline it can meet.
+    let health = server
+        .health()
+        .check(HealthCheckRequest {
+            service: String::new(),
+        })
+        .await
+        .expect("health")
+        .into_inner();
+    assert_eq!(health.status, ServingStatus::Serving as i32);
+    let answer = server
+        .rates()
+        .lookup_rates(with_deadline(lookup(MK_III, vec![1e4]), Duration::from_secs(30)))
+        .await
+        .expect("lookup after the deadline")
+        .into_inner();
+    assert_eq!(answer.deexcitation.len(), 10);
+    let small = solve(MK_III, vec![1e4], vec![1e3], false);
+    server
+        .populations()
+        .solve_populations(with_deadline(small, Duration::from_secs(30)))
+        .await
+        .expect("a solve that meets its deadline");
+    server.shutdown().await.expect("clean stop");
+}
+
+#[tokio::test(flavor = "multi_thread", worker_threads = 2)]
+async fn the_client_time_budget_ends_a_big_solve_with_a_timeout() {
+    let server = TestServer::start().await;
+    let dataset = ratewell_client::DatasetRef::new("demo").expect("id");
+    let client = ratewell_client::Client::new(
+        ratewell_client::ClientConfig::new(server.url())
+            .with_dataset(dataset)
+            .with_call_timeout(DEADLINE),
+    )
+    .expect("client");
+    let mut query =
+        ratewell_client::PopulationQuery::grid(MK_II, log_spaced(2e3, 2e5, 20), log_spaced(1e2, 1e10, 20));
+    query.min_line_fraction = 1.0;
+    let started = Instant::now();
+    let err = client
+        .solve_populations(&query)
+        .await
+        .expect_err("longer than the budget");
+    assert!(
+        matches!(err, ratewell_client::ClientError::Timeout { after, .. } if after == DEADLINE),
+        "{err:?}"
+    );
+    assert!(err.to_string().contains("no answer within"), "{err}");
+    assert!(
+        started.elapsed() < Duration::from_secs(1),
+        "{:?}",
+        started.elapsed()
+    );
+    // Still serving, and the same client gets quick answers.
+    let answer = client
+        .lookup_rates(&ratewell_client::RateQuery::new(MK_III, vec![1e4]))
+        .await
+        .expect("a quick call within the budget");
+    assert_eq!(answer.deexcitation.len(), 10);
+}
+
+#[tokio::test(flavor = "multi_thread", worker_threads = 2)]
+async fn an_expired_deadline_is_deadline_exceeded() {
+    let server = TestServer::start().await;
+    let status = refused(
+        server
+            .populations()
+            .solve_populations(with_deadline(big_solve(), DEADLINE))
+            .await,
+    );
+    assert_status(&status, Code::DeadlineExceeded, &[]);
+
+    // The server's own request_timeout bounds a call with no client deadline the same way.
+    let config = ratewell_service::config::Config {
+        request_timeout: DEADLINE,
+        ..test_config()
+    };
+    let bounded = TestServer::start_with(config).await;
+    let status = refused(bounded.populations().solve_populations(big_solve()).await);
+    assert_status(&status, Code::DeadlineExceeded, &[]);
+}
