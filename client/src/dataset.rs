@@ -223,6 +223,7 @@ mod tests {
             id: id.into(),
             version: v.into(),
             content_hash: h.into(),
+            ..Default::default()
         }
     }
 

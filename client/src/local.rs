@@ -265,6 +265,7 @@ pub(crate) mod tests {
                 id: "demo".into(),
                 version: "1.0.0".into(),
                 content_hash: content_hash.into(),
+                ..Default::default()
             }),
             species: "X".into(),
             grid: Some(grid_to_wire(&grid)),

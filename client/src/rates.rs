@@ -304,6 +304,7 @@ mod tests {
             id: "demo".into(),
             version: "1".into(),
             content_hash: "ab".into(),
+            ..Default::default()
         }
     }
 

@@ -37,13 +37,21 @@ fn rule_matches_scipy_pchip() {
         let table = RateTable::from_knots(header, grid, case.ln_upsilon.clone()).unwrap();
         // Knot slopes: same algorithm, so equal to rounding (relative 1e-12 of the data scale).
         for (i, (&ours, &theirs)) in table.slopes().iter().zip(&case.expected_slopes).enumerate() {
-            assert!((ours - theirs).abs() <= 1e-10 * (1.0 + theirs.abs()), "{} slope[{i}]: {ours} vs {theirs}", case.name);
+            assert!(
+                (ours - theirs).abs() <= 1e-10 * (1.0 + theirs.abs()),
+                "{} slope[{i}]: {ours} vs {theirs}",
+                case.name
+            );
         }
         // Values between knots: the same cubic Hermite; differences are rounding only.
         for (&x, &expected) in case.eval_log10_t.iter().zip(&case.expected_ln_upsilon) {
             let loc = grid.locate(10f64.powf(x));
             let ours = table.ln_upsilon_at(&loc);
-            assert!((ours - expected).abs() <= 1e-10 * (1.0 + expected.abs()), "{} at log10 T = {x}: {ours} vs {expected}", case.name);
+            assert!(
+                (ours - expected).abs() <= 1e-10 * (1.0 + expected.abs()),
+                "{} at log10 T = {x}: {ours} vs {expected}",
+                case.name
+            );
         }
     }
 }

@@ -6,7 +6,11 @@ fn main() {
     for d in engine.datasets() {
         for species in &d.dataset.species {
             let t = &d.tables[&species.name];
-            let mut v: Vec<_> = t.tables.iter().map(|x| (x.max_interpolation_error(), x)).collect();
+            let mut v: Vec<_> = t
+                .tables
+                .iter()
+                .map(|x| (x.max_interpolation_error(), x))
+                .collect();
             v.sort_by(|a, b| b.0.total_cmp(&a.0));
             for (e, table) in v.iter().take(3) {
                 let h = table.header();
@@ -19,9 +23,14 @@ fn main() {
                     let direct = src.source.upsilon(tk).unwrap();
                     let tab = table.evaluate_at(&g.locate(tk)).upsilon;
                     let r = ((tab - direct) / direct).abs();
-                    if r > worst.0 { worst = (r, tk); }
+                    if r > worst.0 {
+                        worst = (r, tk);
+                    }
                 }
-                println!("{} {}-{} {:?} err {e:.2e} at T={:.3e} dE_k={:.3e}", species.name, h.upper, h.lower, c.kind, worst.1, h.excitation_energy_k);
+                println!(
+                    "{} {}-{} {:?} err {e:.2e} at T={:.3e} dE_k={:.3e}",
+                    species.name, h.upper, h.lower, c.kind, worst.1, h.excitation_energy_k
+                );
             }
         }
     }

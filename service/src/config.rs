@@ -104,7 +104,11 @@ impl Default for Config {
 
 /// Command-line flags; each can also come from the environment variable shown.
 #[derive(Debug, Default, Parser)]
-#[command(name = "ratewell-server", version, about = "Serve electron-impact rate coefficients, level populations and line emissivities over gRPC")]
+#[command(
+    name = "ratewell-server",
+    version,
+    about = "Serve electron-impact rate coefficients, level populations and line emissivities over gRPC"
+)]
 pub struct Flags {
     /// TOML file with any of the settings below (snake_case keys).
     #[arg(long, env = "RATEWELL_CONFIG")]
@@ -287,9 +291,21 @@ impl Config {
             self.max_extra_cached_grids = v;
         }
         for (field, value, slot) in [
-            ("request_timeout_s", f.request_timeout_s, &mut self.request_timeout),
-            ("keepalive_interval_s", f.keepalive_interval_s, &mut self.keepalive_interval),
-            ("keepalive_timeout_s", f.keepalive_timeout_s, &mut self.keepalive_timeout),
+            (
+                "request_timeout_s",
+                f.request_timeout_s,
+                &mut self.request_timeout,
+            ),
+            (
+                "keepalive_interval_s",
+                f.keepalive_interval_s,
+                &mut self.keepalive_interval,
+            ),
+            (
+                "keepalive_timeout_s",
+                f.keepalive_timeout_s,
+                &mut self.keepalive_timeout,
+            ),
             ("drain_s", f.drain_s, &mut self.drain),
             ("shutdown_grace_s", f.shutdown_grace_s, &mut self.shutdown_grace),
         ] {
@@ -312,7 +328,10 @@ impl Config {
         if let Err(e) = ratewell_proto::rule::LogGrid::from_range(g.t_min_k, g.t_max_k, g.points_per_decade) {
             return Err(ConfigError::Invalid {
                 field: "grid",
-                value: format!("[{}, {}] K at {} per decade ({e})", g.t_min_k, g.t_max_k, g.points_per_decade),
+                value: format!(
+                    "[{}, {}] K at {} per decade ({e})",
+                    g.t_min_k, g.t_max_k, g.points_per_decade
+                ),
                 allowed: "0 < t_min_k < t_max_k, finite, 1..=1000 points per decade",
             });
         }
@@ -363,7 +382,11 @@ mod tests {
         let dir = std::env::temp_dir().join(format!("ratewell-config-{}", std::process::id()));
         std::fs::create_dir_all(&dir).unwrap();
         let file = dir.join("server.toml");
-        std::fs::write(&file, "max_in_flight = 7\nmax_solve_points = 9\ndata_dir = \"sets\"\n").unwrap();
+        std::fs::write(
+            &file,
+            "max_in_flight = 7\nmax_solve_points = 9\ndata_dir = \"sets\"\n",
+        )
+        .unwrap();
         let flags = Flags {
             config: Some(file.clone()),
             max_in_flight: Some(3),

@@ -3,13 +3,13 @@
 //! drains: health NOT_SERVING, a short pause, then a graceful stop bounded by
 //! `shutdown_grace`. `main` and the end-to-end tests both call [`run`].
 
+use crate::api::AppState;
 use crate::api::admin::AdminHandler;
 use crate::api::catalogue::CatalogueHandler;
 use crate::api::consistency::ConsistencyHandler;
 use crate::api::populations::PopulationsHandler;
 use crate::api::rates::RatesHandler;
 use crate::api::transport::TransportHandler;
-use crate::api::AppState;
 use crate::config::Config;
 use crate::dataset;
 use crate::engine::{Engine, EngineError};
@@ -77,8 +77,7 @@ pub async fn serve(
     shutdown: impl Future<Output = ()> + Send + 'static,
     started: Instant,
 ) -> Result<(), ServerError> {
-    let (cut_tx, cut_rx) = tokio::sync::watch::channel(false);
-    let state = AppState::new(engine, config.max_in_flight, config.request_timeout, cut_rx);
+    let state = AppState::new(engine, config.max_in_flight).with_request_timeout(config.request_timeout);
     let limit = config.max_message_bytes;
     let (health, health_service) = tonic_health::server::health_reporter();
     // Reflection names exactly the services served (Transport only when enabled).
@@ -115,8 +114,12 @@ pub async fn serve(
     }
     health.set_serving::<CatalogueServer<CatalogueHandler>>().await;
     health.set_serving::<RatesServer<RatesHandler>>().await;
-    health.set_serving::<PopulationsServer<PopulationsHandler>>().await;
-    health.set_serving::<ConsistencyServer<ConsistencyHandler>>().await;
+    health
+        .set_serving::<PopulationsServer<PopulationsHandler>>()
+        .await;
+    health
+        .set_serving::<ConsistencyServer<ConsistencyHandler>>()
+        .await;
     health.set_serving::<AdminServer<AdminHandler>>().await;
 
     let mut builder = tonic::transport::Server::builder()
@@ -125,7 +128,8 @@ pub async fn serve(
         .timeout(config.request_timeout + Duration::from_secs(1))
         .http2_keepalive_interval(Some(config.keepalive_interval))
         .http2_keepalive_timeout(Some(config.keepalive_timeout))
-        .tcp_nodelay(true);
+        .tcp_nodelay(true)
+        .layer(tonic::service::InterceptorLayer::new(crate::api::record_arrival));
     let mut router = builder
         .add_service(health_service)
         .add_service(reflection_v1)
@@ -167,11 +171,19 @@ pub async fn serve(
     }));
     shutdown.await;
     tracing::info!("shutdown requested: health NOT_SERVING, draining");
-    health.set_service_status("", tonic_health::ServingStatus::NotServing).await;
-    health.set_not_serving::<CatalogueServer<CatalogueHandler>>().await;
+    health
+        .set_service_status("", tonic_health::ServingStatus::NotServing)
+        .await;
+    health
+        .set_not_serving::<CatalogueServer<CatalogueHandler>>()
+        .await;
     health.set_not_serving::<RatesServer<RatesHandler>>().await;
-    health.set_not_serving::<PopulationsServer<PopulationsHandler>>().await;
-    health.set_not_serving::<ConsistencyServer<ConsistencyHandler>>().await;
+    health
+        .set_not_serving::<PopulationsServer<PopulationsHandler>>()
+        .await;
+    health
+        .set_not_serving::<ConsistencyServer<ConsistencyHandler>>()
+        .await;
     health.set_not_serving::<AdminServer<AdminHandler>>().await;
     tokio::time::sleep(config.drain).await;
     let _ = stop_tx.send(());
@@ -183,7 +195,7 @@ pub async fn serve(
                 grace_s = config.shutdown_grace.as_secs_f64(),
                 "in-flight calls did not finish within the grace period; cutting them"
             );
-            let _ = cut_tx.send(true);
+            state.cut_in_flight();
             abort.abort();
         }
     }

@@ -5,8 +5,7 @@ use ratewell_service::engine::{Engine, EngineConfig, Selector};
 use std::path::{Path, PathBuf};
 
 use ratewell_service::dataset::{
-    CollisionData, EstimateMethod, TransitionType,
-    demo_dataset, find_dataset_dirs, load_folder,
+    CollisionData, EstimateMethod, TransitionType, demo_dataset, find_dataset_dirs, load_folder,
 };
 
 fn data_dir() -> PathBuf {
@@ -186,16 +185,32 @@ fn the_data_folder_holds_both_demo_versions_and_the_newest_is_selected() {
     for dir in &dirs {
         engine.load_path(dir).expect("loads");
     }
-    let newest = engine.select(&Selector { id: "demo".into(), version: None, expected_hash: None }).unwrap();
+    let newest = engine
+        .select(&Selector {
+            id: "demo".into(),
+            version: None,
+            expected_hash: None,
+        })
+        .unwrap();
     assert_eq!(newest.stamp.version, "1.1.0");
     let v1 = engine
-        .select(&Selector { id: "demo".into(), version: Some("1.0.0".into()), expected_hash: None })
+        .select(&Selector {
+            id: "demo".into(),
+            version: Some("1.0.0".into()),
+            expected_hash: None,
+        })
         .unwrap();
     // the embedded copy is the same dataset as the 1.0.0 folder
     assert_eq!(v1.stamp.content_hash, demo_dataset().unwrap().content_hash);
-    assert!(engine
-        .select(&Selector { id: "demo".into(), version: Some("2.0.0".into()), expected_hash: None })
-        .is_err());
+    assert!(
+        engine
+            .select(&Selector {
+                id: "demo".into(),
+                version: Some("2.0.0".into()),
+                expected_hash: None
+            })
+            .is_err()
+    );
 }
 
 #[test]
@@ -206,9 +221,19 @@ fn newest_compares_versions_as_numbers() {
         d.version = version.to_string();
         engine.install(d).expect("distinct versions");
     }
-    let newest = engine.select(&Selector { id: "demo".into(), version: None, expected_hash: None }).unwrap();
+    let newest = engine
+        .select(&Selector {
+            id: "demo".into(),
+            version: None,
+            expected_hash: None,
+        })
+        .unwrap();
     assert_eq!(newest.stamp.version, "1.10.0");
-    let order: Vec<String> = engine.datasets().iter().map(|d| d.stamp.version.clone()).collect();
+    let order: Vec<String> = engine
+        .datasets()
+        .iter()
+        .map(|d| d.stamp.version.clone())
+        .collect();
     assert_eq!(order, ["1.2.3", "1.9.0", "1.10.0"]);
 }
 

@@ -898,9 +898,16 @@ fn a_data_folder_with_bad_datasets_fails_listing_each() {
     assert_eq!(dirs.len(), 2, "{dirs:?}");
     let texts: Vec<String> = dirs
         .iter()
-        .map(|d| load_folder(d).expect_err("every fixture folder is broken").to_string())
+        .map(|d| {
+            load_folder(d)
+                .expect_err("every fixture folder is broken")
+                .to_string()
+        })
         .collect();
     let text = texts.join("\n");
     assert!(text.contains("bad-manifest/dataset.toml:3: version"), "{text}");
-    assert!(text.contains("broken-species/ab-iv.toml:24: level[1].weight"), "{text}");
+    assert!(
+        text.contains("broken-species/ab-iv.toml:24: level[1].weight"),
+        "{text}"
+    );
 }

@@ -3,10 +3,10 @@
 //! texts, see each file). The whole chain is exercised: file -> tables (Burgess & Tully
 //! scaling) -> the evaluation rule -> statistical equilibrium -> emissivities.
 
+use ratewell_proto::rule::OutsidePolicy;
 use ratewell_service::engine::solve::{PointLayout, SolveAnswer, SolveQuery};
 use ratewell_service::engine::units::{DensityUnit, PowerUnit, TemperatureUnit};
 use ratewell_service::engine::{Engine, EngineConfig, Selector};
-use ratewell_proto::rule::OutsidePolicy;
 use std::path::Path;
 
 fn engine() -> Engine {
@@ -61,7 +61,11 @@ fn oxygen_iii_temperature_ratio_follows_the_published_formula() {
         let ours = (line(point, 4, 2) + line(point, 4, 3)) / line(point, 5, 4);
         let published = 7.90 * (3.29e4 / t).exp() / (1.0 + 4.5e-4 * 100.0 / t.sqrt());
         let rel = (ours - published).abs() / published;
-        assert!(rel < 0.08, "T = {t} K: ours {ours:.1}, published {published:.1} ({:.1} %)", rel * 100.0);
+        assert!(
+            rel < 0.08,
+            "T = {t} K: ours {ours:.1}, published {published:.1} ({:.1} %)",
+            rel * 100.0
+        );
     }
 }
 
@@ -84,7 +88,10 @@ fn sulphur_ii_doublet_reaches_its_low_and_high_density_limits() {
     let (e2, e3) = (14852.94_f64, 14884.73_f64);
     let c2 = 1.438_776_877; // second radiation constant hc/k, cm K (CODATA 2018)
     let high_closed = (6.0 / 4.0) * (-(e3 - e2) * c2 / 1.0e4).exp() * (2.6e-4 * e3) / (8.8e-4 * e2);
-    assert!((high - high_closed).abs() / high_closed < 0.01, "high {high:.4} vs closed form {high_closed:.4}");
+    assert!(
+        (high - high_closed).abs() / high_closed < 0.01,
+        "high {high:.4} vs closed form {high_closed:.4}"
+    );
 }
 
 #[test]
@@ -109,7 +116,10 @@ fn critical_densities_match_published_values() {
     let o3 = solve(&engine, "O III", vec![1.0e4], vec![100.0]);
     let s2 = solve(&engine, "S II", vec![1.0e4], vec![100.0]);
     let check = |got: f64, want: f64, what: &str| {
-        assert!((got - want).abs() / want < 0.25, "{what}: {got:.3e} vs {want:.3e}");
+        assert!(
+            (got - want).abs() / want < 0.25,
+            "{what}: {got:.3e} vs {want:.3e}"
+        );
     };
     check(o3.points[0].critical_densities_per_cm3[3], 6.4e5, "O III 1D2");
     check(s2.points[0].critical_densities_per_cm3[1], 3.9e3, "S II 2D3/2");
@@ -125,7 +135,11 @@ fn tables_of_real_ions_and_demo_interpolate_to_1e_3_at_20_per_decade() {
     for loaded in engine.datasets() {
         for (name, tables) in &loaded.tables {
             let err = tables.max_interpolation_error();
-            assert!(err < 1e-3, "{} {name}: max interpolation error {err:.2e}", loaded.stamp.label());
+            assert!(
+                err < 1e-3,
+                "{} {name}: max interpolation error {err:.2e}",
+                loaded.stamp.label()
+            );
         }
     }
 }

@@ -63,6 +63,7 @@ impl FakeState {
             id: "demo".into(),
             version: "1.0.0".into(),
             content_hash: self.content_hash.lock().unwrap().clone(),
+            ..Default::default()
         }
     }
     /// Records the call, applies forced failures and delay, checks the selector like the

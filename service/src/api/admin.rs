@@ -1,7 +1,7 @@
 //! Admin service: load or reload a dataset folder; a failure leaves the old data serving.
 
-use super::{AppState, deadline_of};
 use super::convert::stamp;
+use super::{AppState, deadline_of};
 use ratewell_proto::pb::{self, admin_server::Admin};
 use tonic::{Request, Response, Status};
 
@@ -18,7 +18,10 @@ impl Admin for AdminHandler {
         let deadline = deadline_of(&request);
         let folder = request.into_inner().folder;
         let log_folder = folder.clone();
-        let result = self.0.run(deadline, move |engine| engine.load_folder(&folder)).await;
+        let result = self
+            .0
+            .run(deadline, move |engine| engine.load_folder(&folder))
+            .await;
         match &result {
             Ok(report) => tracing::info!(
                 folder = %log_folder,
@@ -28,7 +31,9 @@ impl Admin for AdminHandler {
                 seconds = report.precompute_seconds,
                 "dataset loaded"
             ),
-            Err(status) => tracing::warn!(folder = %log_folder, error = %status.message(), "dataset load refused; previous data keep serving"),
+            Err(status) => {
+                tracing::warn!(folder = %log_folder, error = %status.message(), "dataset load refused; previous data keep serving")
+            }
         }
         let report = result?;
         Ok(Response::new(pb::LoadDatasetResponse {

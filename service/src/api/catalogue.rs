@@ -1,7 +1,7 @@
 //! Catalogue service: datasets, species, levels, transitions.
 
-use super::{AppState, deadline_of};
 use super::convert::{grid_spec_to_wire, selector, stamp};
+use super::{AppState, deadline_of};
 use crate::dataset::{CollisionData, Species};
 use crate::engine::EngineError;
 use crate::physics::constants::{ELECTRON_VOLT_J, INVERSE_CM_J};

@@ -1,7 +1,7 @@
 //! Consistency service: comparison of two datasets.
 
-use super::{AppState, deadline_of};
 use super::convert::{compare_answer, compare_query};
+use super::{AppState, deadline_of};
 use ratewell_proto::pb::{self, consistency_server::Consistency};
 use tonic::{Request, Response, Status};
 
@@ -18,7 +18,9 @@ impl Consistency for ConsistencyHandler {
         let deadline = deadline_of(&request);
         let req = request.into_inner();
         self.0
-            .run(deadline, move |engine| Ok(compare_answer(engine.compare(&compare_query(&req)?)?)))
+            .run(deadline, move |engine| {
+                Ok(compare_answer(engine.compare(&compare_query(&req)?)?))
+            })
             .await
             .map(Response::new)
     }

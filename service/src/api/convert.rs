@@ -14,14 +14,20 @@ pub fn stamp(s: &Stamp) -> pb::DatasetStamp {
         id: s.id.clone(),
         version: s.version.clone(),
         content_hash: s.content_hash.clone(),
+        tables_digest: s.tables_digest.clone(),
     }
 }
 
 /// A selector from its wire form (a missing selector is an error naming `field`).
 pub fn selector(sel: Option<&pb::DatasetSelector>, field: &str) -> Result<Selector, EngineError> {
-    let sel = sel.ok_or_else(|| EngineError::invalid(field, "unset", "must name a dataset (id, optional version)"))?;
+    let sel = sel
+        .ok_or_else(|| EngineError::invalid(field, "unset", "must name a dataset (id, optional version)"))?;
     if sel.id.is_empty() {
-        return Err(EngineError::invalid(format!("{field}.id"), "\"\"", "must name a loaded dataset"));
+        return Err(EngineError::invalid(
+            format!("{field}.id"),
+            "\"\"",
+            "must name a loaded dataset",
+        ));
     }
     Ok(Selector {
         id: sel.id.clone(),
@@ -50,7 +56,11 @@ pub fn grid_spec_to_wire(g: &GridSpec) -> pb::GridSpec {
 
 fn species_name(name: &str) -> Result<String, EngineError> {
     if name.is_empty() {
-        Err(EngineError::invalid("species", "\"\"", "must name a species, e.g. \"O III\""))
+        Err(EngineError::invalid(
+            "species",
+            "\"\"",
+            "must name a species, e.g. \"O III\"",
+        ))
     } else {
         Ok(name.to_owned())
     }
@@ -187,7 +197,11 @@ pub fn solve_query(req: &pb::SolvePopulationsRequest) -> Result<SolveQuery, Engi
         temperature_unit: temperature_unit(req.temperature_unit)?,
         densities: req.densities.clone(),
         density_unit: density_unit(req.density_unit)?,
-        layout: if req.grid { PointLayout::Grid } else { PointLayout::Pairs },
+        layout: if req.grid {
+            PointLayout::Grid
+        } else {
+            PointLayout::Pairs
+        },
         outside: outside_policy(req.outside_grid)?,
         power_unit: power_unit(req.power_unit)?,
         grid: grid_spec(req.table_grid.as_ref()),

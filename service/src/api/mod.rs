@@ -11,22 +11,50 @@ pub mod rates;
 pub mod status;
 pub mod transport;
 
+use crate::engine::solve::Cancel;
 use crate::engine::{Engine, EngineError};
 use std::sync::Arc;
-use tokio::sync::Semaphore;
 use std::time::Duration;
+use tokio::sync::Semaphore;
 use tonic::Status;
 use tonic_types::{ErrorDetails, StatusExt};
 
 /// The wait suggested to a client whose call was shed.
 const SHED_RETRY_HINT: Duration = Duration::from_millis(50);
 
-/// How long before a client's deadline the server gives up and answers DEADLINE_EXCEEDED.
-const DEADLINE_MARGIN: Duration = Duration::from_millis(5);
+/// How long before a deadline the server gives up and answers DEADLINE_EXCEEDED: a tenth of
+/// it, within [5 ms, 100 ms], so the answer beats the transport's own timer (which would
+/// answer CANCELLED) even on a loaded machine.
+fn deadline_margin(limit: Duration) -> Duration {
+    (limit / 10).clamp(Duration::from_millis(5), Duration::from_millis(100))
+}
 
-/// The client's deadline from the `grpc-timeout` header (gRPC over HTTP/2 spec: at most 8
-/// digits and a unit H, M, S, m, u or n), if it sent one.
+/// When a request reached the server, recorded by [`record_arrival`].
+#[derive(Debug, Clone, Copy)]
+pub struct Arrival(pub std::time::Instant);
+
+/// Interceptor (installed as a server layer) that records each request's arrival time, so a
+/// handler measures the client's deadline from the same moment as the transport does.
+pub fn record_arrival(mut request: tonic::Request<()>) -> Result<tonic::Request<()>, Status> {
+    request
+        .extensions_mut()
+        .insert(Arrival(std::time::Instant::now()));
+    Ok(request)
+}
+
+/// The time left until the client's deadline: the `grpc-timeout` header (gRPC over HTTP/2
+/// spec: at most 8 digits and a unit H, M, S, m, u or n) less the time since arrival.
 pub fn deadline_of<T>(request: &tonic::Request<T>) -> Option<Duration> {
+    let timeout = grpc_timeout(request)?;
+    let waited = request
+        .extensions()
+        .get::<Arrival>()
+        .map_or(Duration::ZERO, |a| a.0.elapsed());
+    Some(timeout.saturating_sub(waited))
+}
+
+/// The `grpc-timeout` header's value, if present and well formed.
+fn grpc_timeout<T>(request: &tonic::Request<T>) -> Option<Duration> {
     let text = request.metadata().get("grpc-timeout")?.to_str().ok()?;
     let (digits, unit) = text.split_at(text.len().checked_sub(1)?);
     if digits.is_empty() || digits.len() > 8 {
@@ -44,6 +72,15 @@ pub fn deadline_of<T>(request: &tonic::Request<T>) -> Option<Duration> {
     })
 }
 
+/// Sets its flag when dropped: ties a computation's lifetime to the call waiting for it.
+struct CancelOnDrop(Cancel);
+
+impl Drop for CancelOnDrop {
+    fn drop(&mut self) {
+        self.0.cancel();
+    }
+}
+
 /// State shared by every handler. Cheap to clone.
 #[derive(Clone)]
 pub struct AppState {
@@ -52,28 +89,32 @@ pub struct AppState {
     permits: Arc<Semaphore>,
     max_in_flight: usize,
     request_timeout: Duration,
-    cut: tokio::sync::watch::Receiver<bool>,
+    cut: Arc<tokio::sync::watch::Sender<bool>>,
 }
 
 impl AppState {
     /// State over `engine` admitting at most `max_in_flight` engine calls at once (further
-    /// calls are shed with RESOURCE_EXHAUSTED and a retry hint) and bounding every call by
-    /// `request_timeout` (answered DEADLINE_EXCEEDED).
-    /// `cut` turning true ends every call still in flight with UNAVAILABLE (used when the
-    /// shutdown grace period runs out).
-    pub fn new(
-        engine: Engine,
-        max_in_flight: usize,
-        request_timeout: Duration,
-        cut: tokio::sync::watch::Receiver<bool>,
-    ) -> Self {
+    /// calls are shed with RESOURCE_EXHAUSTED and a retry hint), each bounded by the default
+    /// request timeout (see [`Self::with_request_timeout`]).
+    pub fn new(engine: Engine, max_in_flight: usize) -> Self {
         Self {
             engine,
             permits: Arc::new(Semaphore::new(max_in_flight)),
             max_in_flight,
-            request_timeout,
-            cut,
+            request_timeout: crate::config::Config::default().request_timeout,
+            cut: Arc::new(tokio::sync::watch::Sender::new(false)),
         }
+    }
+
+    /// Bounds every call by `request_timeout` (answered DEADLINE_EXCEEDED).
+    pub fn with_request_timeout(mut self, request_timeout: Duration) -> Self {
+        self.request_timeout = request_timeout;
+        self
+    }
+
+    /// Ends every call still in flight with UNAVAILABLE (when the shutdown grace runs out).
+    pub fn cut_in_flight(&self) {
+        self.cut.send_replace(true);
     }
 
     /// Runs `work` on the blocking pool under a concurrency permit and maps its error. At the
@@ -84,6 +125,17 @@ impl AppState {
     where
         T: Send + 'static,
         F: FnOnce(&Engine) -> Result<T, EngineError> + Send + 'static,
+    {
+        self.run_cancellable(deadline, move |engine, _| work(engine))
+            .await
+    }
+
+    /// [`Self::run`] for work that checks a [`Cancel`] flag, set when the call is answered
+    /// DEADLINE_EXCEEDED or cut at shutdown, so abandoned work stops early.
+    pub async fn run_cancellable<T, F>(&self, deadline: Option<Duration>, work: F) -> Result<T, Status>
+    where
+        T: Send + 'static,
+        F: FnOnce(&Engine, &Cancel) -> Result<T, EngineError> + Send + 'static,
     {
         let permit = Arc::clone(&self.permits).try_acquire_owned().map_err(|_| {
             // The retry hint tells clients this is load shedding, worth retrying, unlike a
@@ -98,14 +150,19 @@ impl AppState {
             )
         })?;
         let engine = self.engine.clone();
+        let cancel = Cancel::default();
+        let worker_cancel = cancel.clone();
+        // Dropped (and so cancelling) whenever this future ends early: deadline, shutdown cut,
+        // or the client going away.
+        let _cancel_on_drop = CancelOnDrop(cancel);
         let task = tokio::task::spawn_blocking(move || {
             let _permit = permit;
-            work(&engine)
+            work(&engine, &worker_cancel)
         });
         let limit = deadline.map_or(self.request_timeout, |d| d.min(self.request_timeout));
-        let mut cut = self.cut.clone();
+        let mut cut = self.cut.subscribe();
         let joined = tokio::select! {
-            finished = tokio::time::timeout(limit.saturating_sub(DEADLINE_MARGIN), task) => match finished {
+            finished = tokio::time::timeout(limit.saturating_sub(deadline_margin(limit)), task) => match finished {
                 Ok(joined) => joined,
                 Err(_) => {
                     return Err(Status::deadline_exceeded(format!(
@@ -125,7 +182,9 @@ impl AppState {
             }),
             Err(join) => {
                 tracing::error!(error = %join, "engine task failed");
-                Err(Status::internal("internal error while computing the answer; the server keeps serving"))
+                Err(Status::internal(
+                    "internal error while computing the answer; the server keeps serving",
+                ))
             }
         }
     }

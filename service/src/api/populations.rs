@@ -1,7 +1,7 @@
 //! Populations service: statistical-equilibrium solves.
 
-use super::{AppState, deadline_of};
 use super::convert::{solve_answer, solve_query};
+use super::{AppState, deadline_of};
 use ratewell_proto::pb::{self, populations_server::Populations};
 use tonic::{Request, Response, Status};
 
@@ -18,7 +18,9 @@ impl Populations for PopulationsHandler {
         let deadline = deadline_of(&request);
         let req = request.into_inner();
         self.0
-            .run(deadline, move |engine| Ok(solve_answer(engine.solve(&solve_query(&req)?)?)))
+            .run(deadline, move |engine| {
+                Ok(solve_answer(engine.solve(&solve_query(&req)?)?))
+            })
             .await
             .map(Response::new)
     }

@@ -1,7 +1,7 @@
 //! Rates service: fetch tables for local evaluation, batched lookups, streamed lookups.
 
-use super::{AppState, deadline_of};
 use super::convert::{grid_spec, lookup_answer, lookup_query, selector, stamp};
+use super::{AppState, deadline_of};
 use ratewell_proto::pb::{self, rates_server::Rates};
 use ratewell_proto::wire::{grid_to_wire, table_to_wire};
 use std::pin::Pin;
@@ -46,7 +46,9 @@ impl Rates for RatesHandler {
         let deadline = deadline_of(&request);
         let req = request.into_inner();
         self.0
-            .run(deadline, move |engine| Ok(lookup_answer(engine.lookup(&lookup_query(&req)?)?)))
+            .run(deadline, move |engine| {
+                Ok(lookup_answer(engine.lookup(&lookup_query(&req)?)?))
+            })
             .await
             .map(Response::new)
     }
@@ -68,7 +70,9 @@ impl Rates for RatesHandler {
                         // The stream's deadline covers the whole stream.
                         let left = deadline.map(|d| d.saturating_sub(started.elapsed()));
                         state
-                            .run(left, move |engine| Ok(lookup_answer(engine.lookup(&lookup_query(&req)?)?)))
+                            .run(left, move |engine| {
+                                Ok(lookup_answer(engine.lookup(&lookup_query(&req)?)?))
+                            })
                             .await
                     }
                     Err(status) => Err(status),

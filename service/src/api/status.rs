@@ -33,22 +33,29 @@ pub fn to_status(error: &EngineError) -> Status {
         EngineError::Load(load) => load_status(load, message),
         EngineError::Table(table) => table_status(table, message),
         EngineError::Rule(rule) => rule_status(rule, message),
+        EngineError::Cancelled => Status::deadline_exceeded(message),
         EngineError::Solve(_) => Status::internal(message),
     }
 }
 
 fn load_status(error: &DatasetError, message: String) -> Status {
     match error {
-        DatasetError::Io { source, .. } if source.kind() == std::io::ErrorKind::NotFound => Status::not_found(message),
+        DatasetError::Io { source, .. } if source.kind() == std::io::ErrorKind::NotFound => {
+            Status::not_found(message)
+        }
         DatasetError::Io { .. } => Status::unavailable(message),
-        DatasetError::MissingManifest { .. } | DatasetError::Invalid { .. } => Status::failed_precondition(message),
+        DatasetError::MissingManifest { .. } | DatasetError::Invalid { .. } => {
+            Status::failed_precondition(message)
+        }
     }
 }
 
 fn table_status(error: &TableError, message: String) -> Status {
     match error {
         // Data that cannot be tabulated is a property of the dataset, not of the request.
-        TableError::NonPositiveUpsilon { .. } | TableError::Source { .. } => Status::failed_precondition(message),
+        TableError::NonPositiveUpsilon { .. } | TableError::Source { .. } => {
+            Status::failed_precondition(message)
+        }
         TableError::Evaluation(_) => Status::internal(message),
         TableError::Rule(rule) => rule_status(rule, message),
     }
@@ -56,7 +63,9 @@ fn table_status(error: &TableError, message: String) -> Status {
 
 fn rule_status(error: &RuleError, message: String) -> Status {
     match error {
-        RuleError::TemperatureNotPositive { .. } | RuleError::BadGrid { .. } => Status::invalid_argument(message),
+        RuleError::TemperatureNotPositive { .. } | RuleError::BadGrid { .. } => {
+            Status::invalid_argument(message)
+        }
         RuleError::OutsideGrid { .. } => Status::out_of_range(message),
         RuleError::BadTable { .. } | RuleError::BufferLength { .. } => Status::internal(message),
     }

@@ -69,4 +69,3 @@ fn list_problems(problems: &[Problem]) -> String {
     }
     out
 }
-

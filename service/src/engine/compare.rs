@@ -94,7 +94,10 @@ impl Engine {
                         return Err(EngineError::invalid(
                             format!("species[{i}]"),
                             format!("{name:?}"),
-                            format!("must be a species of both datasets; {} lacks it", loaded.stamp.label()),
+                            format!(
+                                "must be a species of both datasets; {} lacks it",
+                                loaded.stamp.label()
+                            ),
                         ));
                     }
                 }
@@ -119,11 +122,19 @@ impl Engine {
             for a in &t1.tables {
                 let h = a.header();
                 let Some(b) = t2.get(h.upper, h.lower) else {
-                    answer.only_in_first.push(format!("{name} {}-{}", h.upper, h.lower));
+                    answer
+                        .only_in_first
+                        .push(format!("{name} {}-{}", h.upper, h.lower));
                     continue;
                 };
-                let q1: Vec<f64> = temps.iter().map(|&t| a.evaluate_at(&grid.locate(t)).deexcitation_cm3_s).collect();
-                let q2: Vec<f64> = temps.iter().map(|&t| b.evaluate_at(&grid.locate(t)).deexcitation_cm3_s).collect();
+                let q1: Vec<f64> = temps
+                    .iter()
+                    .map(|&t| a.evaluate_at(&grid.locate(t)).deexcitation_cm3_s)
+                    .collect();
+                let q2: Vec<f64> = temps
+                    .iter()
+                    .map(|&t| b.evaluate_at(&grid.locate(t)).deexcitation_cm3_s)
+                    .collect();
                 let (max_relative_difference, at_temperature_k) = max_relative_difference(&q1, &q2, &temps);
                 answer.differences.push(TransitionDifference {
                     species: name.clone(),
@@ -136,7 +147,9 @@ impl Engine {
             for b in &t2.tables {
                 let h = b.header();
                 if t1.get(h.upper, h.lower).is_none() {
-                    answer.only_in_second.push(format!("{name} {}-{}", h.upper, h.lower));
+                    answer
+                        .only_in_second
+                        .push(format!("{name} {}-{}", h.upper, h.lower));
                 }
             }
         }

@@ -59,7 +59,9 @@ pub enum EngineError {
         available: String,
     },
     /// The species has no collision data for this transition.
-    #[error("transitions[{index}] = {upper}-{lower}: no collisional transition between these levels in {species}")]
+    #[error(
+        "transitions[{index}] = {upper}-{lower}: no collisional transition between these levels in {species}"
+    )]
     UnknownTransition {
         /// Position in the request.
         index: usize,
@@ -89,6 +91,9 @@ pub enum EngineError {
     /// The evaluation rule refused an input.
     #[error(transparent)]
     Rule(#[from] RuleError),
+    /// The caller gave up (its deadline passed) and the computation stopped early.
+    #[error("computation stopped: the caller's deadline passed")]
+    Cancelled,
     /// The population solve failed.
     #[error("population solve failed: {0}")]
     Solve(#[from] PhysicsError),

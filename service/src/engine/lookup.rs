@@ -54,7 +54,11 @@ pub struct LookupAnswer {
 /// Validates temperatures in their unit, reporting every bad element, and returns them in K.
 pub fn temperatures_in_kelvin(values: &[f64], unit: TemperatureUnit) -> Result<Vec<f64>, EngineError> {
     if values.is_empty() {
-        return Err(EngineError::invalid("temperatures", "[]", "must hold at least one temperature"));
+        return Err(EngineError::invalid(
+            "temperatures",
+            "[]",
+            "must hold at least one temperature",
+        ));
     }
     let violations: Vec<(String, String)> = values
         .iter()
@@ -86,12 +90,14 @@ impl Engine {
                 .iter()
                 .enumerate()
                 .map(|(index, &(upper, lower))| {
-                    tables.position(upper, lower).ok_or(EngineError::UnknownTransition {
-                        index,
-                        species: query.species.clone(),
-                        upper,
-                        lower,
-                    })
+                    tables
+                        .position(upper, lower)
+                        .ok_or(EngineError::UnknownTransition {
+                            index,
+                            species: query.species.clone(),
+                            upper,
+                            lower,
+                        })
                 })
                 .collect::<Result<_, _>>()?
         };
@@ -122,8 +128,16 @@ impl Engine {
         for (t, &p) in positions.iter().enumerate() {
             let table = &tables.tables[p];
             let range = t * n_t..(t + 1) * n_t;
-            let exc: &mut [f64] = if excitation.is_empty() { &mut [] } else { &mut excitation[range.clone()] };
-            let deexc: &mut [f64] = if deexcitation.is_empty() { &mut [] } else { &mut deexcitation[range.clone()] };
+            let exc: &mut [f64] = if excitation.is_empty() {
+                &mut []
+            } else {
+                &mut excitation[range.clone()]
+            };
+            let deexc: &mut [f64] = if deexcitation.is_empty() {
+                &mut []
+            } else {
+                &mut deexcitation[range.clone()]
+            };
             let fl = &mut flags[range];
             for (j, loc) in locations.iter().enumerate() {
                 table.write_at(loc, dir, j, exc, deexc, fl);
@@ -163,11 +177,14 @@ pub fn add_flag_cautions(cautions: &mut Vec<String>, all_flags: u32) {
     use ratewell_proto::rule::flags;
     if all_flags & flags::APPROXIMATE != 0 {
         cautions.push(
-            "some values are APPROXIMATE (estimated without collision data): treat as order of magnitude".into(),
+            "some values are APPROXIMATE (estimated without collision data): treat as order of magnitude"
+                .into(),
         );
     }
     if all_flags & flags::BEYOND_SOURCE != 0 {
-        cautions.push("some values are BEYOND_SOURCE: extrapolated outside the source data's temperature range".into());
+        cautions.push(
+            "some values are BEYOND_SOURCE: extrapolated outside the source data's temperature range".into(),
+        );
     }
     if all_flags & flags::OUTSIDE_GRID != 0 {
         cautions.push("some values are OUTSIDE_GRID: extrapolated beyond the table grid".into());

@@ -42,7 +42,11 @@ pub struct GridSpec {
 impl GridSpec {
     /// The uniform log grid this spec describes.
     pub fn to_grid(self) -> Result<LogGrid, EngineError> {
-        Ok(LogGrid::from_range(self.t_min_k, self.t_max_k, self.points_per_decade)?)
+        Ok(LogGrid::from_range(
+            self.t_min_k,
+            self.t_max_k,
+            self.points_per_decade,
+        )?)
     }
 }
 
@@ -134,7 +138,10 @@ impl Engine {
         let mut tables = HashMap::new();
         let mut solve_inputs = HashMap::new();
         for species in &dataset.species {
-            tables.insert(species.name.clone(), Arc::new(build_species_tables(species, grid)?));
+            tables.insert(
+                species.name.clone(),
+                Arc::new(build_species_tables(species, grid)?),
+            );
             solve_inputs.insert(species.name.clone(), Arc::new(solve_inputs_for(species)));
         }
         let precompute_seconds = started.elapsed().as_secs_f64();
@@ -142,12 +149,15 @@ impl Engine {
             id: dataset.id.clone(),
             version: dataset.version.clone(),
             content_hash: dataset.content_hash.clone(),
+            tables_digest: tables_digest(&dataset, &tables),
         };
         let table_count = tables.values().map(|t| t.tables.len()).sum();
         for (name, t) in &tables {
-            self.inner
-                .cache
-                .insert(TableKey::new(&stamp.content_hash, name, &grid), Arc::clone(t), true);
+            self.inner.cache.insert(
+                TableKey::new(&stamp.content_hash, name, &grid),
+                Arc::clone(t),
+                true,
+            );
         }
         let species_count = dataset.species.len();
         let loaded = Arc::new(LoadedDataset {
@@ -268,7 +278,6 @@ impl Engine {
     }
 }
 
-
 /// The not-found error for a species missing from `loaded`.
 pub fn unknown_species_error(loaded: &LoadedDataset, species: &str) -> EngineError {
     EngineError::UnknownSpecies {
@@ -282,6 +291,35 @@ pub fn unknown_species_error(loaded: &LoadedDataset, species: &str) -> EngineErr
             .collect::<Vec<_>>()
             .join(", "),
     }
+}
+
+/// blake3 over every default-grid table as served, species in dataset order.
+fn tables_digest(dataset: &Dataset, tables: &HashMap<String, Arc<SpeciesTables>>) -> String {
+    let mut hasher = blake3::Hasher::new();
+    for species in &dataset.species {
+        hasher.update(species.name.as_bytes());
+        hasher.update(&[0]);
+        let Some(t) = tables.get(&species.name) else {
+            continue;
+        };
+        for table in &t.tables {
+            let h = table.header();
+            hasher.update(&h.upper.to_le_bytes());
+            hasher.update(&h.lower.to_le_bytes());
+            let numbers = [
+                h.g_lower,
+                h.g_upper,
+                h.excitation_energy_k,
+                h.source_t_min_k,
+                h.source_t_max_k,
+            ];
+            for v in numbers.iter().chain(table.ln_upsilon()).chain(table.slopes()) {
+                hasher.update(&v.to_bits().to_le_bytes());
+            }
+            hasher.update(&[u8::from(h.approximate)]);
+        }
+    }
+    hasher.finalize().to_hex().to_string()
 }
 
 fn solve_inputs_for(species: &dataset::Species) -> SolveInputs {

@@ -19,6 +19,8 @@ pub struct Stamp {
     pub version: String,
     /// Content hash (hex blake3 of the canonical form).
     pub content_hash: String,
+    /// Digest of the default-grid tables built from it (hex blake3).
+    pub tables_digest: String,
 }
 
 impl Stamp {
@@ -81,7 +83,9 @@ impl Registry {
     pub fn install(&self, loaded: Arc<LoadedDataset>) -> Option<Arc<LoadedDataset>> {
         let key = version_key(&loaded.stamp.version);
         let mut map = self.by_id.write().unwrap_or_else(|p| p.into_inner());
-        map.entry(loaded.stamp.id.clone()).or_default().insert(key, loaded)
+        map.entry(loaded.stamp.id.clone())
+            .or_default()
+            .insert(key, loaded)
     }
 
     /// Every loaded dataset, by id then version.
@@ -98,7 +102,11 @@ impl Registry {
     /// The dataset a selector names.
     pub fn select(&self, selector: &Selector) -> Result<Arc<LoadedDataset>, EngineError> {
         if selector.id.is_empty() {
-            return Err(EngineError::invalid("dataset.id", "\"\"", "must name a loaded dataset"));
+            return Err(EngineError::invalid(
+                "dataset.id",
+                "\"\"",
+                "must name a loaded dataset",
+            ));
         }
         let map = self.by_id.read().unwrap_or_else(|p| p.into_inner());
         let unknown = || EngineError::UnknownDataset {

@@ -10,6 +10,8 @@ use crate::physics::populations::{CollisionalRate, PopulationWorkspace};
 use crate::tables::SpeciesTables;
 use ratewell_proto::rule::{Location, OutsidePolicy, RuleError, checked_location};
 use rayon::prelude::*;
+use std::sync::Arc;
+use std::sync::atomic::{AtomicBool, Ordering};
 
 /// How temperatures and densities combine into points.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -101,7 +103,11 @@ pub struct SolveAnswer {
 
 fn densities_in_per_cm3(values: &[f64], unit: DensityUnit) -> Result<Vec<f64>, EngineError> {
     if values.is_empty() {
-        return Err(EngineError::invalid("densities", "[]", "must hold at least one density"));
+        return Err(EngineError::invalid(
+            "densities",
+            "[]",
+            "must hold at least one density",
+        ));
     }
     let violations: Vec<(String, String)> = values
         .iter()
@@ -126,10 +132,32 @@ struct TemperatureWork {
     densities: Vec<(usize, f64)>,
 }
 
+/// A flag that asks a long computation to stop early (set when its caller gave up, e.g. at a
+/// client's deadline). Cheap to clone.
+#[derive(Debug, Clone, Default)]
+pub struct Cancel(Arc<AtomicBool>);
+
+impl Cancel {
+    /// Asks the computation to stop.
+    pub fn cancel(&self) {
+        self.0.store(true, Ordering::Relaxed);
+    }
+    /// Whether stopping was asked for.
+    pub fn is_cancelled(&self) -> bool {
+        self.0.load(Ordering::Relaxed)
+    }
+}
+
 impl Engine {
     /// Solves statistical equilibrium at every requested point. CPU-heavy: call from a
     /// blocking thread.
     pub fn solve(&self, query: &SolveQuery) -> Result<SolveAnswer, EngineError> {
+        self.solve_cancellable(query, &Cancel::default())
+    }
+
+    /// [`Self::solve`], checking `cancel` before each temperature's work and stopping with
+    /// [`EngineError::Cancelled`] once it is set.
+    pub fn solve_cancellable(&self, query: &SolveQuery, cancel: &Cancel) -> Result<SolveAnswer, EngineError> {
         if !(0.0..=1.0).contains(&query.min_line_fraction) {
             return Err(EngineError::invalid(
                 "min_line_fraction",
@@ -151,7 +179,10 @@ impl Engine {
                     return Err(EngineError::invalid(
                         "densities",
                         format!("{} values", dens.len()),
-                        format!("must have as many values as temperatures ({}) unless grid is set", temps_k.len()),
+                        format!(
+                            "must have as many values as temperatures ({}) unless grid is set",
+                            temps_k.len()
+                        ),
                     ));
                 }
                 temps_k.len()
@@ -192,7 +223,11 @@ impl Engine {
                     Ok(TemperatureWork {
                         t_k: t,
                         location: locate(i, t)?,
-                        densities: dens.iter().enumerate().map(|(d, &n)| (i * dens.len() + d, n)).collect(),
+                        densities: dens
+                            .iter()
+                            .enumerate()
+                            .map(|(d, &n)| (i * dens.len() + d, n))
+                            .collect(),
                     })
                 })
                 .collect::<Result<_, EngineError>>()?,
@@ -204,8 +239,18 @@ impl Engine {
             .map_init(
                 || PopulationWorkspace::new(n_levels),
                 |workspace, w| {
+                    if cancel.is_cancelled() {
+                        return Err(EngineError::Cancelled);
+                    }
                     let workspace = workspace.as_mut().map_err(|e| EngineError::Solve(e.clone()))?;
-                    solve_at_temperature(workspace, &tables, inputs, w, power_factor, query.min_line_fraction)
+                    solve_at_temperature(
+                        workspace,
+                        &tables,
+                        inputs,
+                        w,
+                        power_factor,
+                        query.min_line_fraction,
+                    )
                 },
             )
             .collect::<Result<_, EngineError>>()?;
@@ -253,10 +298,11 @@ fn solve_at_temperature(
         })
         .collect();
     workspace.set_rates(&inputs.radiative, &collisional)?;
-    let critical: Vec<f64> = critical_densities_cm3(inputs.energies_cm1.len(), &inputs.radiative, &collisional)?
-        .into_iter()
-        .map(|c| c.unwrap_or(f64::INFINITY))
-        .collect();
+    let critical: Vec<f64> =
+        critical_densities_cm3(inputs.energies_cm1.len(), &inputs.radiative, &collisional)?
+            .into_iter()
+            .map(|c| c.unwrap_or(f64::INFINITY))
+            .collect();
     let mut out = Vec::with_capacity(work.densities.len());
     for &(index, ne) in &work.densities {
         let view = workspace.solve(ne)?;
@@ -264,7 +310,10 @@ fn solve_at_temperature(
         let residual = view.max_relative_imbalance;
         let emissions = line_emissions(&fractions, &inputs.energies_cm1, &inputs.radiative)?;
         let power_w: f64 = emissions.iter().map(|l| l.emissivity_w_per_ion).sum();
-        let strongest = emissions.iter().map(|l| l.emissivity_w_per_ion).fold(0.0, f64::max);
+        let strongest = emissions
+            .iter()
+            .map(|l| l.emissivity_w_per_ion)
+            .fold(0.0, f64::max);
         let lines = emissions
             .iter()
             .filter(|l| l.emissivity_w_per_ion >= min_line_fraction * strongest)

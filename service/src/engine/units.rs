@@ -65,7 +65,6 @@ pub enum RateUnit {
     CubicMetrePerSecond,
 }
 
-
 /// Unit of emitted power in an answer.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
 pub enum PowerUnit {

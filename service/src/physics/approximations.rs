@@ -122,7 +122,12 @@ impl SemiClassicalEstimate {
     /// Validate: `delta_e_ry` (Ry, > 0), `radius_bohr` interaction radius (a0, > 0; see
     /// [`hydrogenic_mean_radius_bohr`]), `ion_charge` net charge Z of the target (>= 0, 0 for
     /// neutral), `strength` s (> 0, order unity), the collision strength at threshold.
-    pub fn new(delta_e_ry: f64, radius_bohr: f64, ion_charge: f64, strength: f64) -> Result<Self, PhysicsError> {
+    pub fn new(
+        delta_e_ry: f64,
+        radius_bohr: f64,
+        ion_charge: f64,
+        strength: f64,
+    ) -> Result<Self, PhysicsError> {
         require_positive(delta_e_ry, "Ry", || "delta_e_ry".to_owned())?;
         require_positive(radius_bohr, "a0", || "radius_bohr".to_owned())?;
         require_non_negative(ion_charge, "", || "ion_charge".to_owned())?;

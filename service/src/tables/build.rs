@@ -13,7 +13,11 @@ pub trait UpsilonSource: Sync {
 /// Tabulates `source` on `grid` (ln Upsilon at the knots), builds the shape-preserving table and
 /// records its largest relative error against the source at the midpoints (in log T) of every
 /// grid interval, where interpolation error is largest.
-pub fn build_table(header: TableHeader, grid: LogGrid, source: &dyn UpsilonSource) -> Result<RateTable, TableError> {
+pub fn build_table(
+    header: TableHeader,
+    grid: LogGrid,
+    source: &dyn UpsilonSource,
+) -> Result<RateTable, TableError> {
     let (upper, lower) = (header.upper, header.lower);
     let mut ln_upsilon = Vec::with_capacity(grid.knots());
     for i in 0..grid.knots() {
@@ -84,7 +88,11 @@ mod tests {
         // (common practice, no source).
         let grid = LogGrid::from_range(1e3, 1e6, 5).unwrap();
         let t = build_table(header(), grid, &PowerLaw).unwrap();
-        assert!(t.max_interpolation_error() < 1e-13, "{}", t.max_interpolation_error());
+        assert!(
+            t.max_interpolation_error() < 1e-13,
+            "{}",
+            t.max_interpolation_error()
+        );
     }
 
     #[test]
@@ -111,7 +119,11 @@ mod tests {
         // the cubic is accurate to about h^3 (common practice, no source).
         let grid = LogGrid::from_range(1e2, 1e8, 20).unwrap();
         let t = build_table(header(), grid, &BetheLike).unwrap();
-        assert!(t.max_interpolation_error() < 1e-5, "{}", t.max_interpolation_error());
+        assert!(
+            t.max_interpolation_error() < 1e-5,
+            "{}",
+            t.max_interpolation_error()
+        );
     }
 
     struct Broken;

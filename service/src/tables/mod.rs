@@ -78,7 +78,11 @@ pub fn build_species_tables(species: &Species, grid: LogGrid) -> Result<SpeciesT
 }
 
 /// Plain-language cautions for answers from these tables.
-fn cautions_for(species: &Species, tables: &[ratewell_proto::rule::RateTable], grid: &LogGrid) -> Vec<String> {
+fn cautions_for(
+    species: &Species,
+    tables: &[ratewell_proto::rule::RateTable],
+    grid: &LogGrid,
+) -> Vec<String> {
     let mut cautions = Vec::new();
     let approximate = tables.iter().filter(|t| t.header().approximate).count();
     if approximate > 0 {

@@ -55,15 +55,22 @@ pub fn transition_source(
         lower,
         message: e.to_string(),
     };
-    let (source, range_k, approximate): (Box<dyn UpsilonSource + Send>, (f64, f64), bool) = match &transition.data
+    let (source, range_k, approximate): (Box<dyn UpsilonSource + Send>, (f64, f64), bool) = match &transition
+        .data
     {
-        CollisionData::EffectiveTable { temperatures_k, upsilon } => {
+        CollisionData::EffectiveTable {
+            temperatures_k,
+            upsilon,
+        } => {
             let scaling = BurgessTullyScaling::new(kind, delta_e_k, None).map_err(wrap)?;
             let curve = ScaledUpsilon::new(scaling, temperatures_k, upsilon, weighted_f).map_err(wrap)?;
             let range = (temperatures_k[0], temperatures_k[temperatures_k.len() - 1]);
             (Box::new(Scaled(curve)), range, false)
         }
-        CollisionData::StrengthTable { scattered_energies_ry, omega } => {
+        CollisionData::StrengthTable {
+            scattered_energies_ry,
+            omega,
+        } => {
             let table = CollisionStrengthTable::new(
                 scattered_energies_ry,
                 omega,
@@ -152,15 +159,21 @@ struct VanRegemorter {
 }
 impl UpsilonSource for VanRegemorter {
     fn upsilon(&self, t_k: f64) -> Result<f64, TableError> {
-        Ok(van_regemorter_upsilon(self.weighted_f, self.delta_e_ry, t_k, self.target)
-            .map_err(physics_failure)?
-            .value)
+        Ok(
+            van_regemorter_upsilon(self.weighted_f, self.delta_e_ry, t_k, self.target)
+                .map_err(physics_failure)?
+                .value,
+        )
     }
 }
 
 struct SemiClassical(SemiClassicalEstimate);
 impl UpsilonSource for SemiClassical {
     fn upsilon(&self, t_k: f64) -> Result<f64, TableError> {
-        Ok(self.0.effective_collision_strength(t_k).map_err(physics_failure)?.value)
+        Ok(self
+            .0
+            .effective_collision_strength(t_k)
+            .map_err(physics_failure)?
+            .value)
     }
 }

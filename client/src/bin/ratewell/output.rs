@@ -180,6 +180,7 @@ mod tests {
             id: "demo".into(),
             version: "1.0.0".into(),
             content_hash: "ab".repeat(32),
+            ..Default::default()
         };
         assert_eq!(
             stamp_line(&s),

@@ -129,7 +129,7 @@ pub(crate) fn species_text(d: &pb::DescribeSpeciesResponse) -> String {
             key.to_string(),
             sci(tr.a_per_s),
             tr.oscillator_strength.to_string(),
-            tr.wavelength_vacuum_angstrom.to_string(),
+            format!("{:.3}", tr.wavelength_vacuum_angstrom),
             collisions.to_string(),
             tr.scaling_type.clone(),
             range,
@@ -191,6 +191,7 @@ mod tests {
             id: "demo".into(),
             version: "1.0.0".into(),
             content_hash: "c".repeat(64),
+            ..Default::default()
         }
     }
 

@@ -219,6 +219,7 @@ mod tests {
             id: "demo".into(),
             version: v.into(),
             content_hash: h.to_string().repeat(64),
+            ..Default::default()
         }
     }
 

@@ -148,6 +148,7 @@ mod tests {
                 id: "demo".into(),
                 version: "1.0.0".into(),
                 content_hash: "f".repeat(64),
+                ..Default::default()
             }),
             species: "X".into(),
             grid: Some(pb::LogTemperatureGrid {

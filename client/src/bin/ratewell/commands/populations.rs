@@ -104,7 +104,7 @@ pub(crate) fn as_text(r: &pb::SolvePopulationsResponse, lines: usize) -> String 
                     pt.temperature_k.to_string(),
                     sci(pt.density_per_cm3),
                     Transition::from(line.key.unwrap_or_default()).to_string(),
-                    line.wavelength_vacuum_angstrom.to_string(),
+                    format!("{:.3}", line.wavelength_vacuum_angstrom),
                     sci(line.emissivity),
                 ]);
             }
@@ -211,6 +211,7 @@ mod tests {
                 id: "demo".into(),
                 version: "1.0.0".into(),
                 content_hash: "e".repeat(64),
+                ..Default::default()
             }),
             species: "X".into(),
             power_unit: 1,

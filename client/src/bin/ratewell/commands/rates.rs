@@ -144,6 +144,7 @@ mod tests {
                 id: "demo".into(),
                 version: "1.0.0".into(),
                 content_hash: "d".repeat(64),
+                ..Default::default()
             },
             species: "X".into(),
             transitions: vec![Transition { upper: 2, lower: 1 }],
