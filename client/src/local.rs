@@ -5,9 +5,10 @@ use crate::dataset::stamp_label;
 use crate::error::ClientError;
 use crate::rates::{EvalOptions, RateBuffers, RateLookup, RateQuery};
 use crate::transition::Transition;
+use crate::units::RateUnit;
 use crate::units::check_temperatures;
 use ratewell_proto::pb;
-use ratewell_proto::rule::{LogGrid, OutsidePolicy, RateTable, RateValue, checked_location};
+use ratewell_proto::rule::{LogGrid, OutsidePolicy, RateTable, RateValue, checked_location, write_rows};
 use ratewell_proto::wire::{grid_from_wire, table_from_wire};
 use std::collections::HashMap;
 
@@ -177,27 +178,13 @@ impl LocalTables {
             table_indices,
             ..
         } = out;
-        for (row, &ti) in table_indices.iter().enumerate() {
-            let table = &self.tables[ti];
-            let span = row * n..(row + 1) * n;
-            let exc = if direction.wants_excitation() {
-                &mut excitation[span.clone()]
-            } else {
-                Default::default()
-            };
-            let deexc = if direction.wants_deexcitation() {
-                &mut deexcitation[span.clone()]
-            } else {
-                Default::default()
-            };
-            let fl = &mut flags[span];
-            for (j, loc) in locations.iter().enumerate() {
-                table.write_at(loc, direction, j, exc, deexc, fl);
-            }
-        }
+        let rows: Vec<&RateTable> = table_indices.iter().map(|&ti| &self.tables[ti]).collect();
+        write_rows(&rows, locations, direction, excitation, deexcitation, flags)?;
         let unit = options.rate_unit;
-        for v in excitation.iter_mut().chain(deexcitation.iter_mut()) {
-            *v = unit.from_cm3_s(*v);
+        if unit != RateUnit::CubicCentimetrePerSecond {
+            for v in excitation.iter_mut().chain(deexcitation.iter_mut()) {
+                *v = unit.from_cm3_s(*v);
+            }
         }
         Ok(())
     }

@@ -282,15 +282,17 @@ pub struct RateBuffers {
 impl RateBuffers {
     /// Sizes the buffers for `n` values in `direction` (contents are overwritten by the caller).
     pub(crate) fn prepare(&mut self, n: usize, direction: Direction) {
+        // Every slot is overwritten by the evaluation, so buffers of the right length are
+        // reused as they are (no clearing pass over them).
         let size = |v: &mut Vec<f64>, wanted: bool| {
-            v.clear();
             if wanted {
                 v.resize(n, 0.0);
+            } else {
+                v.clear();
             }
         };
         size(&mut self.excitation, direction.wants_excitation());
         size(&mut self.deexcitation, direction.wants_deexcitation());
-        self.flags.clear();
         self.flags.resize(n, 0);
     }
 }

@@ -150,6 +150,16 @@ fn elementary(c: &mut Criterion) {
             black_box(&out);
         })
     });
+    #[cfg(target_arch = "x86_64")]
+    if std::arch::is_x86_feature_detected!("avx2") {
+        g.bench_function("rule_exp_avx2", |b| {
+            b.iter(|| {
+                // SAFETY: the processor has AVX2 (checked above).
+                unsafe { exp_block_avx2(black_box(&xs), &mut out) };
+                black_box(&out);
+            })
+        });
+    }
     g.bench_function("platform_exp", |b| {
         b.iter(|| {
             for (o, &x) in out.iter_mut().zip(black_box(&xs)) {
@@ -159,6 +169,15 @@ fn elementary(c: &mut Criterion) {
         })
     });
     g.finish();
+}
+
+/// The rule's exponential over a block, compiled for AVX2 as the rule's batched kernel is.
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx2")]
+unsafe fn exp_block_avx2(xs: &[f64], out: &mut [f64]) {
+    for (o, &x) in out.iter_mut().zip(xs) {
+        *o = ratewell_proto::rule::exp(x);
+    }
 }
 
 fn config() -> Criterion {

@@ -633,6 +633,75 @@ impl RateTable {
     }
 }
 
+/// Values per parallel task of [`write_rows`]: batches smaller than this run on the calling
+/// thread (a hand-off to the thread pool costs more than it saves below it).
+const PARALLEL_MIN_VALUES: usize = 1 << 16;
+
+/// Evaluates many tables of one grid at the same located temperatures into transition-major
+/// buffers: row `r` (slots `r * n .. (r + 1) * n`, `n = locations.len()`) holds `tables[r]`.
+/// Each row has the same bits as [`RateTable::write_located`] on its own; batches of more than
+/// [`PARALLEL_MIN_VALUES`] values are spread over the rayon thread pool by rows, which changes
+/// only which thread computes a row. Buffer lengths are `tables.len() * n` for each wanted
+/// direction (an unwanted one may be empty) and for `flags_out`.
+pub fn write_rows(
+    tables: &[&RateTable],
+    locations: &[Location],
+    direction: Direction,
+    excitation_cm3_s: &mut [f64],
+    deexcitation_cm3_s: &mut [f64],
+    flags_out: &mut [u32],
+) -> Result<(), RuleError> {
+    use rayon::prelude::*;
+    let n = locations.len();
+    let total = tables.len().saturating_mul(n);
+    check_outputs(total, direction, excitation_cm3_s, deexcitation_cm3_s, flags_out)?;
+    if let Some(first) = tables.first()
+        && let Some(other) = tables.iter().find(|t| t.grid != first.grid)
+    {
+        return Err(RuleError::BadTable {
+            upper: other.header.upper,
+            lower: other.header.lower,
+            field: "grid",
+            message: "differs from the grid of the other tables in the batch".into(),
+        });
+    }
+    if n == 0 {
+        return Ok(());
+    }
+    let count = tables.len();
+    let exc_rows = row_slices(excitation_cm3_s, n, count, direction.wants_excitation());
+    let deexc_rows = row_slices(deexcitation_cm3_s, n, count, direction.wants_deexcitation());
+    if total < PARALLEL_MIN_VALUES {
+        // On the calling thread: entering the pool would cost a thread hand-off.
+        for (((t, e), d), f) in tables
+            .iter()
+            .zip(exc_rows)
+            .zip(deexc_rows)
+            .zip(flags_out.chunks_mut(n))
+        {
+            t.write_checked(locations, direction, e, d, f);
+        }
+    } else {
+        tables
+            .par_iter()
+            .zip(exc_rows)
+            .zip(deexc_rows)
+            .zip(flags_out.par_chunks_mut(n))
+            .with_min_len(PARALLEL_MIN_VALUES.div_ceil(n))
+            .for_each(|(((t, e), d), f)| t.write_checked(locations, direction, e, d, f));
+    }
+    Ok(())
+}
+
+/// `count` rows of length `n` of `buffer`, or `count` empty slices for an unwanted direction.
+fn row_slices(buffer: &mut [f64], n: usize, count: usize, wanted: bool) -> Vec<&mut [f64]> {
+    if wanted {
+        buffer.chunks_mut(n).collect()
+    } else {
+        (0..count).map(|_| <&mut [f64]>::default()).collect()
+    }
+}
+
 /// Temperatures per block of the batched kernels (sized to stay in L1 cache).
 const BLOCK: usize = 256;
 
@@ -1322,6 +1391,97 @@ mod tests {
         assert_eq!(ln(0.0), f64::NEG_INFINITY);
         assert_eq!(ln(f64::INFINITY), f64::INFINITY);
         assert!(ln(-1.0).is_nan() && ln(f64::NAN).is_nan());
+    }
+
+    #[test]
+    fn many_tables_equal_one_table_at_a_time_bit_for_bit() {
+        // The contract (DESIGN.md "One evaluation rule"): the many-table entry point, on the
+        // calling thread (small batches) and spread over threads (large ones), gives each row
+        // the same bits as that table alone.
+        let g = LogGrid::from_range(1e3, 1e7, 20).unwrap();
+        let tables: Vec<RateTable> = (0..300)
+            .map(|k| {
+                let mut h = header();
+                h.upper = 2 + k;
+                h.approximate = k % 7 == 0;
+                h.excitation_energy_k = 1.0e3 * (1 + k % 40) as f64;
+                let y = (0..g.knots())
+                    .map(|i| (0.3 * i as f64 + 0.1 * k as f64).cos() - 1.0)
+                    .collect();
+                RateTable::from_knots(h, g, y).unwrap()
+            })
+            .collect();
+        let refs: Vec<&RateTable> = tables.iter().collect();
+        for (rows, n) in [(3usize, 5usize), (300, 256)] {
+            let temps: Vec<f64> = spread(n, 2.5, 7.5).map(|e| 10f64.powf(e)).collect();
+            let locs: Vec<Location> = temps.iter().map(|&t| g.locate(t)).collect();
+            for dir in [Direction::Both, Direction::Excitation, Direction::Deexcitation] {
+                let total = rows * n;
+                let sized = |wanted: bool| vec![0.0; if wanted { total } else { 0 }];
+                let (mut e, mut d, mut f) = (
+                    sized(dir.wants_excitation()),
+                    sized(dir.wants_deexcitation()),
+                    vec![0u32; total],
+                );
+                write_rows(&refs[..rows], &locs, dir, &mut e, &mut d, &mut f).unwrap();
+                for (r, t) in refs[..rows].iter().enumerate() {
+                    let (mut e1, mut d1, mut f1) = (vec![0.0; n], vec![0.0; n], vec![0u32; n]);
+                    t.write_located(&locs, dir, &mut e1, &mut d1, &mut f1).unwrap();
+                    let span = r * n..(r + 1) * n;
+                    if dir.wants_excitation() {
+                        assert!(
+                            e[span.clone()]
+                                .iter()
+                                .zip(&e1)
+                                .all(|(a, b)| a.to_bits() == b.to_bits())
+                        );
+                    }
+                    if dir.wants_deexcitation() {
+                        assert!(
+                            d[span.clone()]
+                                .iter()
+                                .zip(&d1)
+                                .all(|(a, b)| a.to_bits() == b.to_bits())
+                        );
+                    }
+                    assert_eq!(&f[span], &f1[..]);
+                }
+            }
+        }
+        // Tables on another grid, and buffers of the wrong size, are refused with a message.
+        let other = RateTable::from_knots(
+            header(),
+            LogGrid::from_range(1e3, 1e7, 10).unwrap(),
+            vec![0.0; LogGrid::from_range(1e3, 1e7, 10).unwrap().knots()],
+        )
+        .unwrap();
+        let locs = [g.locate(1e4)];
+        let err = write_rows(
+            &[&tables[0], &other],
+            &locs,
+            Direction::Deexcitation,
+            &mut [],
+            &mut [0.0; 2],
+            &mut [0; 2],
+        )
+        .unwrap_err();
+        assert_eq!(
+            err.to_string(),
+            "table 2-1 grid: differs from the grid of the other tables in the batch"
+        );
+        let err = write_rows(
+            &refs[..2],
+            &locs,
+            Direction::Deexcitation,
+            &mut [],
+            &mut [0.0; 1],
+            &mut [0; 2],
+        )
+        .unwrap_err();
+        assert_eq!(
+            err.to_string(),
+            "output buffer deexcitation has length 1, expected 2"
+        );
     }
 
     #[test]

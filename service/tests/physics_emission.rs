@@ -2,8 +2,8 @@
 
 use ratewell_service::physics::constants::{PLANCK_J_S, SPEED_OF_LIGHT_M_S};
 use ratewell_service::physics::emission::{
-    critical_densities_cm3, line_emissions, line_emissivity_w_per_ion, line_ratio, radiated_power_w_per_ion,
-    w_to_erg_s,
+    critical_densities_cm3, line_emissions, line_emissivity_w_per_ion, line_ratio, line_terms,
+    radiated_power_w_per_ion, w_to_erg_s,
 };
 use ratewell_service::physics::populations::{CollisionalRate, RadiativeRate};
 use ratewell_service::physics::units;
@@ -138,4 +138,51 @@ fn critical_density_is_decay_over_collisional_depopulation() {
     assert!(rel(nc[1].unwrap(), 2.0e-2 / (3.0e-8 + 4.0e-9)) < 1e-15);
     assert!(rel(nc[2].unwrap(), 1.4e-2 / (5.0e-9 + 7.0e-9)) < 1e-15);
     assert_eq!(critical_densities_cm3(2, &rad[2..], &[]).unwrap()[1], None);
+}
+
+#[test]
+fn precomputed_line_terms_give_the_same_emissivities() {
+    // Osterbrock & Ferland 2006, eq. 3.29 (from memory): j = n_u A h nu per ion; the terms
+    // hold A h nu once per species so a solve only multiplies by n_u.
+    let energies = [0.0, 113.2, 306.2, 20_273.3];
+    let fractions = [0.6, 0.25, 0.1, 0.05];
+    let rad = [
+        RadiativeRate {
+            upper: 3,
+            lower: 2,
+            a_s: 2.0e-2,
+        },
+        RadiativeRate {
+            upper: 2,
+            lower: 0,
+            a_s: 3.0e-11,
+        },
+    ];
+    let terms = line_terms(&energies, &rad).unwrap();
+    for (t, r) in terms.iter().zip(&rad) {
+        let dn = energies[r.upper] - energies[r.lower];
+        let direct = line_emissivity_w_per_ion(fractions[r.upper], r.a_s, dn).unwrap();
+        assert!(rel(t.emissivity_w_per_ion(&fractions), direct) < 1e-15);
+        assert!(
+            rel(
+                t.wavelength_vacuum_angstrom,
+                units::vacuum_wavelength_angstrom_from_cm1(dn)
+            ) < 1e-15
+        );
+    }
+    // Bad inputs are refused naming the field: a level out of range, E_upper <= E_lower.
+    let out_of_range = [RadiativeRate {
+        upper: 4,
+        lower: 0,
+        a_s: 1.0,
+    }];
+    let e = line_terms(&energies, &out_of_range).unwrap_err().to_string();
+    assert!(e.contains("radiative[0].upper"), "{e}");
+    let inverted = [RadiativeRate {
+        upper: 0,
+        lower: 3,
+        a_s: 1.0,
+    }];
+    let e = line_terms(&energies, &inverted).unwrap_err().to_string();
+    assert!(e.contains("radiative[0] energy difference"), "{e}");
 }

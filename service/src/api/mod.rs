@@ -130,6 +130,44 @@ impl AppState {
             .await
     }
 
+    /// Runs certainly-small engine work (microseconds) on the calling async thread, under the
+    /// same concurrency limit as [`Self::run`]; a panic in it is answered INTERNAL like a
+    /// failed blocking task.
+    pub fn run_inline<T, F>(&self, work: F) -> Result<T, Status>
+    where
+        F: FnOnce(&Engine) -> Result<T, EngineError>,
+    {
+        let _permit = Arc::clone(&self.permits)
+            .try_acquire_owned()
+            .map_err(|_| self.busy())?;
+        match std::panic::catch_unwind(std::panic::AssertUnwindSafe(|| work(&self.engine))) {
+            Ok(result) => result.map_err(|e| {
+                tracing::debug!(error = %e, "request refused");
+                status::to_status(&e)
+            }),
+            Err(_) => {
+                tracing::error!("engine work panicked");
+                Err(Status::internal(
+                    "internal error while computing the answer; the server keeps serving",
+                ))
+            }
+        }
+    }
+
+    /// The load-shedding answer: RESOURCE_EXHAUSTED with a retry hint, which tells clients
+    /// this is worth retrying, unlike a request over a configured limit (also
+    /// RESOURCE_EXHAUSTED, without a hint).
+    fn busy(&self) -> Status {
+        Status::with_error_details(
+            tonic::Code::ResourceExhausted,
+            format!(
+                "server busy: {} engine calls in flight (max_in_flight); retry with backoff",
+                self.max_in_flight
+            ),
+            ErrorDetails::with_retry_info(Some(SHED_RETRY_HINT)),
+        )
+    }
+
     /// [`Self::run`] for work that checks a [`Cancel`] flag, set when the call is answered
     /// DEADLINE_EXCEEDED or cut at shutdown, so abandoned work stops early.
     pub async fn run_cancellable<T, F>(&self, deadline: Option<Duration>, work: F) -> Result<T, Status>
@@ -137,18 +175,9 @@ impl AppState {
         T: Send + 'static,
         F: FnOnce(&Engine, &Cancel) -> Result<T, EngineError> + Send + 'static,
     {
-        let permit = Arc::clone(&self.permits).try_acquire_owned().map_err(|_| {
-            // The retry hint tells clients this is load shedding, worth retrying, unlike a
-            // request over a configured limit (also RESOURCE_EXHAUSTED, without a hint).
-            Status::with_error_details(
-                tonic::Code::ResourceExhausted,
-                format!(
-                    "server busy: {} engine calls in flight (max_in_flight); retry with backoff",
-                    self.max_in_flight
-                ),
-                ErrorDetails::with_retry_info(Some(SHED_RETRY_HINT)),
-            )
-        })?;
+        let permit = Arc::clone(&self.permits)
+            .try_acquire_owned()
+            .map_err(|_| self.busy())?;
         let engine = self.engine.clone();
         let cancel = Cancel::default();
         let worker_cancel = cancel.clone();

@@ -3,7 +3,7 @@
 
 use super::units::{RateUnit, TemperatureUnit};
 use super::{Engine, EngineError, GridSpec, Selector, Stamp};
-use ratewell_proto::rule::{Direction, OutsidePolicy, RuleError, checked_location};
+use ratewell_proto::rule::{Direction, OutsidePolicy, RateTable, RuleError, checked_location, write_rows};
 
 /// A batched lookup.
 #[derive(Debug, Clone)]
@@ -125,24 +125,15 @@ impl Engine {
         let mut excitation = sized(dir.wants_excitation());
         let mut deexcitation = sized(dir.wants_deexcitation());
         let mut flags = vec![0u32; total];
-        for (t, &p) in positions.iter().enumerate() {
-            let table = &tables.tables[p];
-            let range = t * n_t..(t + 1) * n_t;
-            let exc: &mut [f64] = if excitation.is_empty() {
-                &mut []
-            } else {
-                &mut excitation[range.clone()]
-            };
-            let deexc: &mut [f64] = if deexcitation.is_empty() {
-                &mut []
-            } else {
-                &mut deexcitation[range.clone()]
-            };
-            let fl = &mut flags[range];
-            for (j, loc) in locations.iter().enumerate() {
-                table.write_at(loc, dir, j, exc, deexc, fl);
-            }
-        }
+        let rows: Vec<&RateTable> = positions.iter().map(|&p| &tables.tables[p]).collect();
+        write_rows(
+            &rows,
+            &locations,
+            dir,
+            &mut excitation,
+            &mut deexcitation,
+            &mut flags,
+        )?;
         if query.rate_unit == RateUnit::CubicMetrePerSecond {
             excitation
                 .iter_mut()

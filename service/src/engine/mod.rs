@@ -20,6 +20,8 @@ pub use error::EngineError;
 pub use registry::{LoadedDataset, Registry, Selector, SolveInputs, Stamp};
 
 use crate::dataset::{self, Dataset};
+use crate::physics::PhysicsError;
+use crate::physics::emission::line_terms;
 use crate::physics::populations::RadiativeRate;
 use crate::tables::{SpeciesTables, TableCache, TableKey, build_species_tables};
 use ratewell_proto::rule::LogGrid;
@@ -142,7 +144,7 @@ impl Engine {
                 species.name.clone(),
                 Arc::new(build_species_tables(species, grid)?),
             );
-            solve_inputs.insert(species.name.clone(), Arc::new(solve_inputs_for(species)));
+            solve_inputs.insert(species.name.clone(), Arc::new(solve_inputs_for(species)?));
         }
         let precompute_seconds = started.elapsed().as_secs_f64();
         let stamp = Stamp {
@@ -178,13 +180,17 @@ impl Engine {
         {
             self.inner.cache.remove_dataset(&old.stamp.content_hash);
         }
-        Ok(LoadReport {
+        let report = LoadReport {
             stamp,
             replaced: replaced.map(|r| r.stamp.clone()),
             species_count,
             table_count,
             precompute_seconds,
-        })
+        };
+        // The load's transient memory (parsed files, build buffers, a replaced dataset no
+        // request holds any more) is free now; hand it back rather than keep the peak.
+        crate::memory::release_free_memory();
+        Ok(report)
     }
 
     /// Loads the embedded demo dataset.
@@ -322,20 +328,24 @@ fn tables_digest(dataset: &Dataset, tables: &HashMap<String, Arc<SpeciesTables>>
     hasher.finalize().to_hex().to_string()
 }
 
-fn solve_inputs_for(species: &dataset::Species) -> SolveInputs {
+fn solve_inputs_for(species: &dataset::Species) -> Result<SolveInputs, PhysicsError> {
     let ground = species.levels.first().map_or(0.0, |l| l.energy_cm1);
-    SolveInputs {
-        energies_cm1: species.levels.iter().map(|l| l.energy_cm1 - ground).collect(),
-        radiative: species
-            .radiative
-            .iter()
-            .filter_map(|r| {
-                Some(RadiativeRate {
-                    upper: species.level_position(r.upper)?,
-                    lower: species.level_position(r.lower)?,
-                    a_s: r.a_per_s,
-                })
+    let energies_cm1: Vec<f64> = species.levels.iter().map(|l| l.energy_cm1 - ground).collect();
+    let radiative: Vec<RadiativeRate> = species
+        .radiative
+        .iter()
+        .filter_map(|r| {
+            Some(RadiativeRate {
+                upper: species.level_position(r.upper)?,
+                lower: species.level_position(r.lower)?,
+                a_s: r.a_per_s,
             })
-            .collect(),
-    }
+        })
+        .collect();
+    let lines = line_terms(&energies_cm1, &radiative)?;
+    Ok(SolveInputs {
+        energies_cm1,
+        radiative,
+        lines,
+    })
 }

@@ -4,6 +4,7 @@
 
 use super::EngineError;
 use crate::dataset::{Dataset, validate::parse_version};
+use crate::physics::emission::LineTerm;
 use crate::physics::populations::RadiativeRate;
 use crate::tables::SpeciesTables;
 use ratewell_proto::rule::LogGrid;
@@ -48,6 +49,8 @@ pub struct SolveInputs {
     pub energies_cm1: Vec<f64>,
     /// Radiative rates with 0-based level positions.
     pub radiative: Vec<RadiativeRate>,
+    /// Each radiative rate's line constants (same order), validated at install.
+    pub lines: Vec<LineTerm>,
 }
 
 /// A dataset as served: the data, its default-grid tables and solve inputs.

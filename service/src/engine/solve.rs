@@ -5,10 +5,11 @@
 use super::lookup::{add_flag_cautions, temperatures_in_kelvin};
 use super::units::{DensityUnit, PowerUnit, TemperatureUnit};
 use super::{Engine, EngineError, GridSpec, Selector, SolveInputs, Stamp};
-use crate::physics::emission::{critical_densities_cm3, line_emissions};
+use crate::physics::PhysicsError;
+use crate::physics::emission::critical_densities_cm3;
 use crate::physics::populations::{CollisionalRate, PopulationWorkspace};
 use crate::tables::SpeciesTables;
-use ratewell_proto::rule::{Location, OutsidePolicy, RuleError, checked_location};
+use ratewell_proto::rule::{Direction, Location, OutsidePolicy, RuleError, checked_location};
 use rayon::prelude::*;
 use std::sync::Arc;
 use std::sync::atomic::{AtomicBool, Ordering};
@@ -125,7 +126,9 @@ fn densities_in_per_cm3(values: &[f64], unit: DensityUnit) -> Result<Vec<f64>, E
     Ok(values.iter().map(|&v| unit.to_per_cm3(v)).collect())
 }
 
-/// Work for one temperature: the densities solved at it, with their output positions.
+/// Work at one temperature: some or all of the densities solved at it, with their output
+/// positions. A temperature's densities are split into several pieces when there are too few
+/// temperatures to keep every thread busy.
 struct TemperatureWork {
     t_k: f64,
     location: Location,
@@ -232,25 +235,18 @@ impl Engine {
                 })
                 .collect::<Result<_, EngineError>>()?,
         };
+        let work = split_for_threads(work, rayon::current_num_threads());
         let n_levels = inputs.energies_cm1.len();
         let power_factor = query.power_unit.from_watt_factor();
         let solved: Vec<Vec<(usize, PointAnswer)>> = work
             .par_iter()
             .map_init(
-                || PopulationWorkspace::new(n_levels),
-                |workspace, w| {
+                || Scratch::new(n_levels, tables.tables.len(), inputs.lines.len()),
+                |scratch, w| {
                     if cancel.is_cancelled() {
                         return Err(EngineError::Cancelled);
                     }
-                    let workspace = workspace.as_mut().map_err(|e| EngineError::Solve(e.clone()))?;
-                    solve_at_temperature(
-                        workspace,
-                        &tables,
-                        inputs,
-                        w,
-                        power_factor,
-                        query.min_line_fraction,
-                    )
+                    solve_at_temperature(scratch, &tables, inputs, w, power_factor, query.min_line_fraction)
                 },
             )
             .collect::<Result<_, EngineError>>()?;
@@ -272,56 +268,107 @@ impl Engine {
     }
 }
 
+/// Fewest points per piece when a temperature's densities are split (below this, evaluating
+/// the temperature's rates again for each piece costs more than the extra parallelism gains).
+const MIN_POINTS_PER_PIECE: usize = 4;
+
+/// Splits temperatures' density lists so that there are about four pieces per thread, keeping
+/// at least [`MIN_POINTS_PER_PIECE`] points in a piece; order and output positions are kept.
+fn split_for_threads(work: Vec<TemperatureWork>, threads: usize) -> Vec<TemperatureWork> {
+    let wanted = 4 * threads.max(1);
+    if work.len() >= wanted {
+        return work;
+    }
+    let pieces_per_temperature = wanted.div_ceil(work.len().max(1));
+    let mut out = Vec::with_capacity(work.len() * pieces_per_temperature);
+    for w in work {
+        let chunk = w
+            .densities
+            .len()
+            .div_ceil(pieces_per_temperature)
+            .max(MIN_POINTS_PER_PIECE);
+        for densities in w.densities.chunks(chunk) {
+            out.push(TemperatureWork {
+                t_k: w.t_k,
+                location: w.location,
+                densities: densities.to_vec(),
+            });
+        }
+    }
+    out
+}
+
+/// Per-thread storage reused from one piece of work to the next.
+struct Scratch {
+    workspace: Result<PopulationWorkspace, PhysicsError>,
+    rates: Vec<CollisionalRate>,
+    line_powers_w: Vec<f64>,
+}
+
+impl Scratch {
+    fn new(n_levels: usize, n_tables: usize, n_lines: usize) -> Self {
+        Self {
+            workspace: PopulationWorkspace::new(n_levels),
+            rates: Vec::with_capacity(n_tables),
+            line_powers_w: Vec::with_capacity(n_lines),
+        }
+    }
+}
+
 /// Evaluates every collisional rate at one temperature and solves each density there.
 fn solve_at_temperature(
-    workspace: &mut PopulationWorkspace,
+    scratch: &mut Scratch,
     tables: &SpeciesTables,
     inputs: &SolveInputs,
     work: &TemperatureWork,
     power_factor: f64,
     min_line_fraction: f64,
 ) -> Result<Vec<(usize, PointAnswer)>, EngineError> {
+    let Scratch {
+        workspace,
+        rates,
+        line_powers_w,
+    } = scratch;
+    let workspace = workspace.as_mut().map_err(|e| EngineError::Solve(e.clone()))?;
     let mut flags = 0u32;
-    let collisional: Vec<CollisionalRate> = tables
-        .tables
-        .iter()
-        .map(|t| {
-            let v = t.evaluate_at(&work.location);
-            flags |= v.flags;
-            let h = t.header();
-            CollisionalRate {
-                upper: h.upper as usize - 1,
-                lower: h.lower as usize - 1,
-                excitation_cm3_s: v.excitation_cm3_s,
-                deexcitation_cm3_s: v.deexcitation_cm3_s,
-            }
-        })
+    rates.clear();
+    let (mut exc, mut deexc, mut fl) = ([0.0], [0.0], [0u32]);
+    for t in &tables.tables {
+        t.write_at(&work.location, Direction::Both, 0, &mut exc, &mut deexc, &mut fl);
+        flags |= fl[0];
+        let h = t.header();
+        rates.push(CollisionalRate {
+            upper: h.upper as usize - 1,
+            lower: h.lower as usize - 1,
+            excitation_cm3_s: exc[0],
+            deexcitation_cm3_s: deexc[0],
+        });
+    }
+    workspace.set_rates(&inputs.radiative, rates)?;
+    let critical: Vec<f64> = critical_densities_cm3(inputs.energies_cm1.len(), &inputs.radiative, rates)?
+        .into_iter()
+        .map(|c| c.unwrap_or(f64::INFINITY))
         .collect();
-    workspace.set_rates(&inputs.radiative, &collisional)?;
-    let critical: Vec<f64> =
-        critical_densities_cm3(inputs.energies_cm1.len(), &inputs.radiative, &collisional)?
-            .into_iter()
-            .map(|c| c.unwrap_or(f64::INFINITY))
-            .collect();
     let mut out = Vec::with_capacity(work.densities.len());
     for &(index, ne) in &work.densities {
         let view = workspace.solve(ne)?;
         let fractions = view.fractions.to_vec();
         let residual = view.max_relative_imbalance;
-        let emissions = line_emissions(&fractions, &inputs.energies_cm1, &inputs.radiative)?;
-        let power_w: f64 = emissions.iter().map(|l| l.emissivity_w_per_ion).sum();
-        let strongest = emissions
+        line_powers_w.clear();
+        line_powers_w.extend(inputs.lines.iter().map(|l| l.emissivity_w_per_ion(&fractions)));
+        let power_w: f64 = line_powers_w.iter().sum();
+        let strongest = line_powers_w.iter().copied().fold(0.0, f64::max);
+        let threshold = min_line_fraction * strongest;
+        let lines = inputs
+            .lines
             .iter()
-            .map(|l| l.emissivity_w_per_ion)
-            .fold(0.0, f64::max);
-        let lines = emissions
-            .iter()
-            .filter(|l| l.emissivity_w_per_ion >= min_line_fraction * strongest)
-            .map(|l| LineAnswer {
+            .zip(line_powers_w.iter())
+            .filter(|&(_, &w)| w >= threshold)
+            .map(|(l, &w)| LineAnswer {
                 upper: l.upper as u32 + 1,
                 lower: l.lower as u32 + 1,
                 wavelength_vacuum_angstrom: l.wavelength_vacuum_angstrom,
-                emissivity: l.emissivity_w_per_ion * power_factor,
+                emissivity: w * power_factor,
             })
             .collect();
         out.push((
@@ -339,4 +386,48 @@ fn solve_at_temperature(
         ));
     }
     Ok(out)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn work(temperatures: usize, densities: usize) -> Vec<TemperatureWork> {
+        let grid = ratewell_proto::rule::LogGrid::from_range(1e3, 1e6, 10).unwrap();
+        (0..temperatures)
+            .map(|i| TemperatureWork {
+                t_k: 1e4 + i as f64,
+                location: grid.locate(1e4 + i as f64),
+                densities: (0..densities)
+                    .map(|d| (i * densities + d, 10f64.powi(d as i32)))
+                    .collect(),
+            })
+            .collect()
+    }
+
+    /// Every (position, density) of the input once, in order, each with its own temperature.
+    fn flatten(w: &[TemperatureWork]) -> Vec<(f64, usize, f64)> {
+        w.iter()
+            .flat_map(|p| p.densities.iter().map(move |&(i, n)| (p.t_k, i, n)))
+            .collect()
+    }
+
+    #[test]
+    fn splitting_keeps_every_point_once_in_order() {
+        // common practice, no source: splitting work for threads must not change the answer.
+        for (temps, dens, threads) in [(1, 1000, 2), (2, 7, 2), (8, 256, 2), (3, 2, 8), (20, 5, 2)] {
+            let before = work(temps, dens);
+            let expected = flatten(&before);
+            let after = split_for_threads(before, threads);
+            assert_eq!(flatten(&after), expected, "{temps} x {dens} on {threads}");
+            assert!(after.iter().all(|p| !p.densities.is_empty()));
+            if temps * dens >= 4 * threads * MIN_POINTS_PER_PIECE && temps < 4 * threads {
+                assert!(
+                    after.len() >= 4 * threads,
+                    "{temps} x {dens}: {} pieces",
+                    after.len()
+                );
+            }
+        }
+    }
 }

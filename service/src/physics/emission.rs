@@ -45,23 +45,39 @@ pub fn w_to_erg_s(power_w: f64) -> f64 {
     power_w / J_PER_ERG
 }
 
-/// All line emissions for the given `fractions` (per level) and level energies
-/// `level_energies_cm1` (cm^-1, same length); each transition needs E_upper > E_lower.
-pub fn line_emissions(
-    fractions: &[f64],
+/// What one line's emissivity needs besides its upper level's population, worked out once
+/// per species so that repeated solves only multiply: emissivity per ion =
+/// fractions[upper] * `power_per_upper_fraction_w`.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct LineTerm {
+    /// Upper level index.
+    pub upper: usize,
+    /// Lower level index.
+    pub lower: usize,
+    /// Photon energy E_upper - E_lower, cm^-1.
+    pub delta_e_cm1: f64,
+    /// Vacuum wavelength, Angstrom.
+    pub wavelength_vacuum_angstrom: f64,
+    /// A h nu, W: the emissivity per ion if the whole ion were in the upper level.
+    pub power_per_upper_fraction_w: f64,
+}
+
+impl LineTerm {
+    /// Emissivity per ion, W, for these level populations (fractions of the ion).
+    #[inline]
+    pub fn emissivity_w_per_ion(&self, fractions: &[f64]) -> f64 {
+        fractions[self.upper] * self.power_per_upper_fraction_w
+    }
+}
+
+/// The [`LineTerm`] of every radiative transition, for level energies `level_energies_cm1`
+/// (cm^-1 above the ground level, >= 0); each transition needs E_upper > E_lower, both levels
+/// in range and A >= 0.
+pub fn line_terms(
     level_energies_cm1: &[f64],
     radiative: &[RadiativeRate],
-) -> Result<Vec<LineEmission>, PhysicsError> {
-    require_same_len(
-        "fractions",
-        fractions.len(),
-        "level_energies_cm1",
-        level_energies_cm1.len(),
-    )?;
-    let n = fractions.len();
-    for (j, &f) in fractions.iter().enumerate() {
-        require_non_negative(f, "", || format!("fractions[{j}]"))?;
-    }
+) -> Result<Vec<LineTerm>, PhysicsError> {
+    let n = level_energies_cm1.len();
     for (j, &e) in level_energies_cm1.iter().enumerate() {
         require_non_negative(e, "cm^-1", || format!("level_energies_cm1[{j}]"))?;
     }
@@ -83,17 +99,47 @@ pub fn line_emissions(
                 format!("radiative[{i}] energy difference E_upper - E_lower")
             })?;
             require_non_negative(r.a_s, "s^-1", || format!("radiative[{i}].a_s"))?;
-            let w = fractions[r.upper] * r.a_s * delta_e_cm1 * INVERSE_CM_J;
-            Ok(LineEmission {
+            Ok(LineTerm {
                 upper: r.upper,
                 lower: r.lower,
                 delta_e_cm1,
                 wavelength_vacuum_angstrom: vacuum_wavelength_angstrom_from_cm1(delta_e_cm1),
-                emissivity_w_per_ion: w,
-                emissivity_erg_s_per_ion: w_to_erg_s(w),
+                power_per_upper_fraction_w: r.a_s * delta_e_cm1 * INVERSE_CM_J,
             })
         })
         .collect()
+}
+
+/// All line emissions for the given `fractions` (per level) and level energies
+/// `level_energies_cm1` (cm^-1, same length); each transition needs E_upper > E_lower.
+pub fn line_emissions(
+    fractions: &[f64],
+    level_energies_cm1: &[f64],
+    radiative: &[RadiativeRate],
+) -> Result<Vec<LineEmission>, PhysicsError> {
+    require_same_len(
+        "fractions",
+        fractions.len(),
+        "level_energies_cm1",
+        level_energies_cm1.len(),
+    )?;
+    for (j, &f) in fractions.iter().enumerate() {
+        require_non_negative(f, "", || format!("fractions[{j}]"))?;
+    }
+    Ok(line_terms(level_energies_cm1, radiative)?
+        .iter()
+        .map(|t| {
+            let w = t.emissivity_w_per_ion(fractions);
+            LineEmission {
+                upper: t.upper,
+                lower: t.lower,
+                delta_e_cm1: t.delta_e_cm1,
+                wavelength_vacuum_angstrom: t.wavelength_vacuum_angstrom,
+                emissivity_w_per_ion: w,
+                emissivity_erg_s_per_ion: w_to_erg_s(w),
+            }
+        })
+        .collect())
 }
 
 /// Ratio of two emissivities (same units); the denominator must be > 0.
