@@ -1321,6 +1321,11 @@ mod tests {
     }
 
     /// Distance in units in the last place between two finite doubles of the same sign.
+    /// The bit patterns of a slice, for exact comparisons with readable failure output.
+    fn bits(v: &[f64]) -> Vec<u64> {
+        v.iter().map(|x| x.to_bits()).collect()
+    }
+
     fn ulps(a: f64, b: f64) -> u64 {
         (a.to_bits() as i64 - b.to_bits() as i64).unsigned_abs()
     }
@@ -1429,32 +1434,18 @@ mod tests {
                     t.write_located(&locs, dir, &mut e1, &mut d1, &mut f1).unwrap();
                     let span = r * n..(r + 1) * n;
                     if dir.wants_excitation() {
-                        assert!(
-                            e[span.clone()]
-                                .iter()
-                                .zip(&e1)
-                                .all(|(a, b)| a.to_bits() == b.to_bits())
-                        );
+                        assert_eq!(bits(&e[span.clone()]), bits(&e1));
                     }
                     if dir.wants_deexcitation() {
-                        assert!(
-                            d[span.clone()]
-                                .iter()
-                                .zip(&d1)
-                                .all(|(a, b)| a.to_bits() == b.to_bits())
-                        );
+                        assert_eq!(bits(&d[span.clone()]), bits(&d1));
                     }
                     assert_eq!(&f[span], &f1[..]);
                 }
             }
         }
         // Tables on another grid, and buffers of the wrong size, are refused with a message.
-        let other = RateTable::from_knots(
-            header(),
-            LogGrid::from_range(1e3, 1e7, 10).unwrap(),
-            vec![0.0; LogGrid::from_range(1e3, 1e7, 10).unwrap().knots()],
-        )
-        .unwrap();
+        let coarse = LogGrid::from_range(1e3, 1e7, 10).unwrap();
+        let other = RateTable::from_knots(header(), coarse, vec![0.0; coarse.knots()]).unwrap();
         let locs = [g.locate(1e4)];
         let err = write_rows(
             &[&tables[0], &other],
@@ -1510,27 +1501,15 @@ mod tests {
                 for (j, loc) in locs.iter().enumerate() {
                     t.write_at(loc, dir, j, &mut e2, &mut d2, &mut f2);
                 }
-                assert_eq!(
-                    e.iter().map(|v| v.to_bits()).collect::<Vec<_>>(),
-                    e2.iter().map(|v| v.to_bits()).collect::<Vec<_>>()
-                );
-                assert_eq!(
-                    d.iter().map(|v| v.to_bits()).collect::<Vec<_>>(),
-                    d2.iter().map(|v| v.to_bits()).collect::<Vec<_>>()
-                );
+                assert_eq!(bits(&e), bits(&e2));
+                assert_eq!(bits(&d), bits(&d2));
                 assert_eq!(f, f2);
                 // Extrapolating batch evaluation from raw temperatures gives the same again.
                 let (mut e3, mut d3, mut f3) = (vec![0.0; n], vec![0.0; n], vec![0; n]);
                 t.evaluate_into(&temps, dir, OutsidePolicy::Extrapolate, &mut e3, &mut d3, &mut f3)
                     .unwrap();
-                assert_eq!(
-                    e3.iter().map(|v| v.to_bits()).collect::<Vec<_>>(),
-                    e2.iter().map(|v| v.to_bits()).collect::<Vec<_>>()
-                );
-                assert_eq!(
-                    d3.iter().map(|v| v.to_bits()).collect::<Vec<_>>(),
-                    d2.iter().map(|v| v.to_bits()).collect::<Vec<_>>()
-                );
+                assert_eq!(bits(&e3), bits(&e2));
+                assert_eq!(bits(&d3), bits(&d2));
                 assert_eq!(f3, f2);
             }
         }

@@ -158,7 +158,8 @@ impl Engine {
         self.solve_cancellable(query, &Cancel::default())
     }
 
-    /// [`Self::solve`], checking `cancel` before each temperature's work and stopping with
+    /// [`Self::solve`], checking `cancel` before each piece of work (a temperature or part of
+    /// its densities) and stopping with
     /// [`EngineError::Cancelled`] once it is set.
     pub fn solve_cancellable(&self, query: &SolveQuery, cancel: &Cancel) -> Result<SolveAnswer, EngineError> {
         if !(0.0..=1.0).contains(&query.min_line_fraction) {
