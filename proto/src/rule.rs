@@ -609,6 +609,26 @@ impl RateTable {
         deexcitation_cm3_s: &mut [f64],
         flags_out: &mut [u32],
     ) {
+        self.write_checked_as(
+            KernelWidth::widest(),
+            locations,
+            direction,
+            excitation_cm3_s,
+            deexcitation_cm3_s,
+            flags_out,
+        );
+    }
+
+    /// [`Self::write_checked`] with the kernel compiled for `width` (one the processor has).
+    fn write_checked_as(
+        &self,
+        width: KernelWidth,
+        locations: &[Location],
+        direction: Direction,
+        excitation_cm3_s: &mut [f64],
+        deexcitation_cm3_s: &mut [f64],
+        flags_out: &mut [u32],
+    ) {
         let kernel = Kernel {
             coeffs: &self.coeffs,
             ln_prefactor_ul: self.ln_prefactor_ul,
@@ -623,13 +643,55 @@ impl RateTable {
             deexcitation: deexcitation_cm3_s,
             flags: flags_out,
         };
+        kernel.run_width(width, locations, direction, out);
+    }
+}
+
+/// Instruction sets a batched kernel can be compiled for. Every width does the same IEEE
+/// operations in the same order (no fused multiply-add), so all give the same bits; wider
+/// ones only do more values per instruction.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum KernelWidth {
+    /// Whatever the compilation target guarantees (SSE2 on x86_64).
+    Portable,
+    /// AVX2: the cubic by explicit 4-lane instructions, the exponentials 4 lanes wide.
+    #[cfg(target_arch = "x86_64")]
+    Avx2,
+    /// AVX-512F: the cubic as for AVX2, the exponentials 8 lanes wide.
+    #[cfg(target_arch = "x86_64")]
+    Avx512,
+}
+
+impl KernelWidth {
+    /// Every width this processor can run, narrowest first.
+    fn available() -> Vec<Self> {
+        #[allow(unused_mut)] // only x86_64 has more than one width
+        let mut widths = vec![Self::Portable];
         #[cfg(target_arch = "x86_64")]
-        if std::arch::is_x86_feature_detected!("avx2") {
-            // SAFETY: the processor supports AVX2 (checked just above).
-            unsafe { kernel.run_avx2(locations, direction, out) };
-            return;
+        {
+            if std::arch::is_x86_feature_detected!("avx2") {
+                widths.push(Self::Avx2);
+                if std::arch::is_x86_feature_detected!("avx512f") {
+                    widths.push(Self::Avx512);
+                }
+            }
         }
-        kernel.run(locations, direction, out);
+        widths
+    }
+
+    /// The widest width this processor can run (detection is cached by the standard library).
+    #[inline]
+    fn widest() -> Self {
+        #[cfg(target_arch = "x86_64")]
+        {
+            if std::arch::is_x86_feature_detected!("avx2") {
+                if std::arch::is_x86_feature_detected!("avx512f") {
+                    return Self::Avx512;
+                }
+                return Self::Avx2;
+            }
+        }
+        Self::Portable
     }
 }
 
@@ -738,6 +800,32 @@ impl Kernel<'_> {
         }
     }
 
+    /// The same kernel compiled for AVX-512F (and AVX2, for the explicit cubic): the
+    /// exponentials run eight lanes wide, with the same operations, so the same bits.
+    #[cfg(target_arch = "x86_64")]
+    #[target_feature(enable = "avx2,avx512f")]
+    unsafe fn run_avx512(self, locations: &[Location], direction: Direction, out: Outputs<'_>) {
+        match direction {
+            Direction::Deexcitation => self.lanes::<false, true, true>(locations, out),
+            Direction::Excitation => self.lanes::<true, false, true>(locations, out),
+            Direction::Both => self.lanes::<true, true, true>(locations, out),
+        }
+    }
+
+    /// Runs the kernel compiled for `width`, which must be one of [`KernelWidth::available`].
+    fn run_width(self, width: KernelWidth, locations: &[Location], direction: Direction, out: Outputs<'_>) {
+        match width {
+            KernelWidth::Portable => self.run(locations, direction, out),
+            // SAFETY: `width` comes from KernelWidth::widest or ::available, which offer a
+            // width only when the processor reports its instruction sets.
+            #[cfg(target_arch = "x86_64")]
+            KernelWidth::Avx2 => unsafe { self.run_avx2(locations, direction, out) },
+            // SAFETY: as above.
+            #[cfg(target_arch = "x86_64")]
+            KernelWidth::Avx512 => unsafe { self.run_avx512(locations, direction, out) },
+        }
+    }
+
     #[inline(always)]
     fn run(self, locations: &[Location], direction: Direction, out: Outputs<'_>) {
         match direction {
@@ -750,7 +838,7 @@ impl Kernel<'_> {
     /// Blocks of locations in two passes: the cubic and the flags per value, then the
     /// exponentials over contiguous blocks (branch-free, so they vectorise). Each step is the
     /// scalar rule's arithmetic in the same order, so every value equals `RateTable::write_at`'s.
-    /// `AVX` is true only when called from [`Self::run_avx2`].
+    /// `AVX` is true only when called from [`Self::run_avx2`] or [`Self::run_avx512`].
     #[inline(always)]
     fn lanes<const EXC: bool, const DEEXC: bool, const AVX: bool>(
         self,
@@ -778,7 +866,8 @@ impl Kernel<'_> {
             let mut done = 0;
             #[cfg(target_arch = "x86_64")]
             if AVX {
-                // SAFETY: AVX is true only inside run_avx2, which runs only on AVX2 processors.
+                // SAFETY: AVX is true only inside run_avx2 and run_avx512, which run only on
+                // processors with AVX2.
                 done = unsafe { self.cubic_avx::<EXC>(block, &mut ln_q_ul, &mut ln_q_lu) };
             }
             for (k, loc) in block.iter().enumerate().skip(done) {
@@ -1504,6 +1593,18 @@ mod tests {
                 assert_eq!(bits(&e), bits(&e2));
                 assert_eq!(bits(&d), bits(&d2));
                 assert_eq!(f, f2);
+                // Every kernel width this processor has gives the same bits again.
+                for width in KernelWidth::available() {
+                    let (mut e4, mut d4, mut f4) = (vec![0.0; n], vec![0.0; n], vec![0; n]);
+                    t.write_checked_as(width, &locs, dir, &mut e4, &mut d4, &mut f4);
+                    if dir.wants_excitation() {
+                        assert_eq!(bits(&e4), bits(&e2), "{width:?} {dir:?}");
+                    }
+                    if dir.wants_deexcitation() {
+                        assert_eq!(bits(&d4), bits(&d2), "{width:?} {dir:?}");
+                    }
+                    assert_eq!(f4, f2, "{width:?} {dir:?}");
+                }
                 // Extrapolating batch evaluation from raw temperatures gives the same again.
                 let (mut e3, mut d3, mut f3) = (vec![0.0; n], vec![0.0; n], vec![0; n]);
                 t.evaluate_into(&temps, dir, OutsidePolicy::Extrapolate, &mut e3, &mut d3, &mut f3)
