@@ -664,6 +664,7 @@ enum KernelWidth {
 
 impl KernelWidth {
     /// Every width this processor can run, narrowest first.
+    #[cfg(test)]
     fn available() -> Vec<Self> {
         #[allow(unused_mut)] // only x86_64 has more than one width
         let mut widths = vec![Self::Portable];
@@ -677,6 +678,35 @@ impl KernelWidth {
             }
         }
         widths
+    }
+
+    /// Replaces every value x by [`exp`]`(x)`, compiled for this width (same bits at every width).
+    fn exp_in_place(self, values: &mut [f64]) {
+        #[inline(always)]
+        fn each(values: &mut [f64]) {
+            for v in values {
+                *v = exp(*v);
+            }
+        }
+        #[cfg(target_arch = "x86_64")]
+        #[target_feature(enable = "avx2")]
+        unsafe fn each_avx2(values: &mut [f64]) {
+            each(values);
+        }
+        #[cfg(target_arch = "x86_64")]
+        #[target_feature(enable = "avx2,avx512f")]
+        unsafe fn each_avx512(values: &mut [f64]) {
+            each(values);
+        }
+        match self {
+            Self::Portable => each(values),
+            // SAFETY: a width is only offered when the processor reports its instruction sets.
+            #[cfg(target_arch = "x86_64")]
+            Self::Avx2 => unsafe { each_avx2(values) },
+            // SAFETY: as above.
+            #[cfg(target_arch = "x86_64")]
+            Self::Avx512 => unsafe { each_avx512(values) },
+        }
     }
 
     /// The widest width this processor can run (detection is cached by the standard library).
@@ -751,6 +781,57 @@ pub fn write_rows(
             .zip(flags_out.par_chunks_mut(n))
             .with_min_len(PARALLEL_MIN_VALUES.div_ceil(n))
             .for_each(|(((t, e), d), f)| t.write_checked(locations, direction, e, d, f));
+    }
+    Ok(())
+}
+
+/// Evaluates many tables of one grid at one located temperature: slot `r` of each buffer holds
+/// `tables[r]`, with the same bits as [`RateTable::write_at`] for each. The logarithms are
+/// worked out table by table first (so many coefficient fetches are in flight at once), then
+/// the exponentials run over the whole buffer with the widest kernel. Buffer lengths are
+/// `tables.len()` for each wanted direction (an unwanted one may be empty) and for `flags_out`.
+pub fn write_tables_at(
+    tables: &[RateTable],
+    location: &Location,
+    direction: Direction,
+    excitation_cm3_s: &mut [f64],
+    deexcitation_cm3_s: &mut [f64],
+    flags_out: &mut [u32],
+) -> Result<(), RuleError> {
+    check_outputs(
+        tables.len(),
+        direction,
+        excitation_cm3_s,
+        deexcitation_cm3_s,
+        flags_out,
+    )?;
+    if let Some(first) = tables.first()
+        && let Some(other) = tables.iter().find(|t| t.grid != first.grid)
+    {
+        return Err(RuleError::BadTable {
+            upper: other.header.upper,
+            lower: other.header.lower,
+            field: "grid",
+            message: "differs from the grid of the other tables in the batch".into(),
+        });
+    }
+    let (exc, deexc) = (direction.wants_excitation(), direction.wants_deexcitation());
+    for (r, t) in tables.iter().enumerate() {
+        let ln_q_ul = t.ln_deexcitation_at(location);
+        if deexc {
+            deexcitation_cm3_s[r] = ln_q_ul;
+        }
+        if exc {
+            excitation_cm3_s[r] = t.ln_excitation_from(ln_q_ul, location);
+        }
+        flags_out[r] = t.flags_at(location);
+    }
+    let width = KernelWidth::widest();
+    if deexc {
+        width.exp_in_place(deexcitation_cm3_s);
+    }
+    if exc {
+        width.exp_in_place(excitation_cm3_s);
     }
     Ok(())
 }
@@ -1561,6 +1642,79 @@ mod tests {
         assert_eq!(
             err.to_string(),
             "output buffer deexcitation has length 1, expected 2"
+        );
+    }
+
+    #[test]
+    fn many_tables_at_one_temperature_equal_write_at_bit_for_bit() {
+        // The contract (DESIGN.md "One evaluation rule"): every path gives the same bits.
+        // Temperatures below, inside and above the grid cover every select.
+        let g = LogGrid::from_range(1e3, 1e7, 20).unwrap();
+        let tables: Vec<RateTable> = (0..257)
+            .map(|k| {
+                let mut h = header();
+                h.upper = 2 + k;
+                h.approximate = k % 5 == 0;
+                h.excitation_energy_k = 7.0e2 * (1 + k % 30) as f64;
+                let y = (0..g.knots())
+                    .map(|i| (0.25 * i as f64 + 0.07 * k as f64).sin() - 0.5)
+                    .collect();
+                RateTable::from_knots(h, g, y).unwrap()
+            })
+            .collect();
+        let n = tables.len();
+        for t_k in [300.0, 1e3, 2.2e4, 9.9e6, 1e7, 4e8] {
+            let loc = g.locate(t_k);
+            for dir in [Direction::Both, Direction::Excitation, Direction::Deexcitation] {
+                let (mut e, mut d, mut f) = (vec![0.0; n], vec![0.0; n], vec![0; n]);
+                write_tables_at(&tables, &loc, dir, &mut e, &mut d, &mut f).unwrap();
+                let (mut e1, mut d1, mut f1) = (vec![0.0; n], vec![0.0; n], vec![0; n]);
+                for (r, t) in tables.iter().enumerate() {
+                    t.write_at(&loc, dir, r, &mut e1, &mut d1, &mut f1);
+                }
+                assert_eq!(bits(&e), bits(&e1), "{t_k} {dir:?}");
+                assert_eq!(bits(&d), bits(&d1), "{t_k} {dir:?}");
+                assert_eq!(f, f1, "{t_k} {dir:?}");
+            }
+        }
+        // Every exponential width gives the rule's exp bit for bit.
+        let xs: Vec<f64> = spread(1001, -745.5, 709.5).collect();
+        for width in KernelWidth::available() {
+            let mut v = xs.clone();
+            width.exp_in_place(&mut v);
+            let expected: Vec<f64> = xs.iter().map(|&x| exp(x)).collect();
+            assert_eq!(bits(&v), bits(&expected), "{width:?}");
+        }
+        // A table on another grid, and a short buffer, are refused with a message.
+        let coarse = LogGrid::from_range(1e3, 1e7, 10).unwrap();
+        let other = RateTable::from_knots(header(), coarse, vec![0.0; coarse.knots()]).unwrap();
+        let loc = g.locate(1e4);
+        let mixed = [tables[0].clone(), other];
+        let err = write_tables_at(
+            &mixed,
+            &loc,
+            Direction::Deexcitation,
+            &mut [],
+            &mut [0.0; 2],
+            &mut [0; 2],
+        )
+        .unwrap_err();
+        assert_eq!(
+            err.to_string(),
+            "table 2-1 grid: differs from the grid of the other tables in the batch"
+        );
+        let err = write_tables_at(
+            &tables,
+            &loc,
+            Direction::Both,
+            &mut [0.0; 3],
+            &mut vec![0.0; n],
+            &mut vec![0; n],
+        )
+        .unwrap_err();
+        assert_eq!(
+            err.to_string(),
+            format!("output buffer excitation has length 3, expected {n}")
         );
     }
 

@@ -2,7 +2,8 @@
 
 use ratewell_service::physics::emission::critical_densities_cm3;
 use ratewell_service::physics::populations::{
-    CollisionalRate, PopulationWorkspace, RadiativeRate, solve_populations,
+    BLOCKED_LU_MIN_LEVELS, CollisionalRate, Factorisation, PopulationWorkspace, RadiativeRate,
+    solve_populations,
 };
 use ratewell_service::physics::rates::{deexcitation_rate_cm3_s, excitation_rate_cm3_s};
 use rayon::prelude::*;
@@ -99,28 +100,31 @@ fn five_level() -> (Vec<f64>, Vec<f64>, f64, Vec<RadiativeRate>, Vec<Collisional
 #[test]
 fn five_level_populations_match_mpmath_at_every_density() {
     // reference: mpmath.lu_solve of the same balance equations at 40 digits
+    // (both LU kernels, each against the same independent reference)
     let (_, _, _, rad, coll) = five_level();
     let data = reference();
-    let mut ws = PopulationWorkspace::new(5).unwrap();
-    ws.set_rates(&rad, &coll).unwrap();
-    let mut worst: f64 = 0.0;
-    for sol in data["populations"]["solutions"].as_array().unwrap() {
-        let ne = sol["ne_cm3"].as_f64().unwrap();
-        let view = ws.solve(ne).unwrap();
-        for (j, expected) in sol["fractions"].as_array().unwrap().iter().enumerate() {
-            let expected = expected.as_f64().unwrap();
-            let r = rel(view.fractions[j], expected);
-            worst = worst.max(r);
-            // relative accuracy even for populations far below 1 (down to ~1e-13 here)
-            assert!(
-                r < 1e-13,
-                "ne {ne}, level {j}: {} vs {expected:e}",
-                view.fractions[j]
-            );
+    for factorisation in [Factorisation::Unblocked, Factorisation::Blocked] {
+        let mut ws = PopulationWorkspace::with_factorisation(5, factorisation).unwrap();
+        ws.set_rates(&rad, &coll).unwrap();
+        let mut worst: f64 = 0.0;
+        for sol in data["populations"]["solutions"].as_array().unwrap() {
+            let ne = sol["ne_cm3"].as_f64().unwrap();
+            let view = ws.solve(ne).unwrap();
+            for (j, expected) in sol["fractions"].as_array().unwrap().iter().enumerate() {
+                let expected = expected.as_f64().unwrap();
+                let r = rel(view.fractions[j], expected);
+                worst = worst.max(r);
+                // relative accuracy even for populations far below 1 (down to ~1e-13 here)
+                assert!(
+                    r < 1e-13,
+                    "{factorisation:?}, ne {ne}, level {j}: {} vs {expected:e}",
+                    view.fractions[j]
+                );
+            }
+            assert!(view.max_relative_imbalance < 1e-12, "ne {ne}");
         }
-        assert!(view.max_relative_imbalance < 1e-12, "ne {ne}");
+        eprintln!("{factorisation:?}: worst relative deviation from mpmath: {worst:e}");
     }
-    eprintln!("worst relative deviation from mpmath over levels and densities: {worst:e}");
 }
 
 #[test]
@@ -223,23 +227,57 @@ fn synthetic_system(n: usize, t: f64) -> (Vec<RadiativeRate>, Vec<CollisionalRat
 }
 
 #[test]
-fn wide_density_sweep_of_a_36_level_system_is_clean() {
-    // common practice, no source: populations are fractions (>= 0, sum 1) and balance holds
-    let n = 36;
-    let (rad, coll) = synthetic_system(n, 2.0e4);
-    let mut ws = PopulationWorkspace::new(n).unwrap();
-    ws.set_rates(&rad, &coll).unwrap();
-    let mut worst_imbalance: f64 = 0.0;
-    for i in 0..=80 {
-        let ne = 10f64.powf(0.25 * f64::from(i)); // 1 .. 1e20 cm^-3
-        let v = ws.solve(ne).unwrap();
-        let sum: f64 = v.fractions.iter().sum();
-        assert!((sum - 1.0).abs() < 1e-12, "ne {ne}: sum {sum}");
-        assert!(v.fractions.iter().all(|&x| x >= 0.0));
-        worst_imbalance = worst_imbalance.max(v.max_relative_imbalance);
+fn wide_density_sweeps_are_clean_with_either_lu_kernel() {
+    // common practice, no source: populations are fractions (>= 0, sum 1) and balance holds;
+    // the two LU kernels come from independent crates, so their agreement is a cross-check.
+    for n in [36, 120] {
+        let (rad, coll) = synthetic_system(n, 2.0e4);
+        let mut unblocked = PopulationWorkspace::with_factorisation(n, Factorisation::Unblocked).unwrap();
+        let mut blocked = PopulationWorkspace::with_factorisation(n, Factorisation::Blocked).unwrap();
+        unblocked.set_rates(&rad, &coll).unwrap();
+        blocked.set_rates(&rad, &coll).unwrap();
+        let (mut worst_imbalance, mut worst_disagreement): (f64, f64) = (0.0, 0.0);
+        for i in 0..=80 {
+            let ne = 10f64.powf(0.25 * f64::from(i)); // 1 .. 1e20 cm^-3
+            let first = unblocked.solve(ne).unwrap();
+            let first_fractions = first.fractions.to_vec();
+            worst_imbalance = worst_imbalance.max(first.max_relative_imbalance);
+            let second = blocked.solve(ne).unwrap();
+            worst_imbalance = worst_imbalance.max(second.max_relative_imbalance);
+            for v in [&first_fractions[..], second.fractions] {
+                let sum: f64 = v.iter().sum();
+                assert!((sum - 1.0).abs() < 1e-12, "{n} levels, ne {ne}: sum {sum}");
+                assert!(v.iter().all(|&x| x >= 0.0));
+            }
+            for (a, b) in first_fractions.iter().zip(second.fractions) {
+                if a.max(*b) > 1e-280 {
+                    worst_disagreement = worst_disagreement.max(rel(*a, *b));
+                }
+            }
+        }
+        eprintln!(
+            "{n} levels: worst imbalance {worst_imbalance:e}, kernels differ by {worst_disagreement:e}"
+        );
+        assert!(worst_imbalance < 1e-12, "{n} levels: {worst_imbalance:e}");
+        assert!(worst_disagreement < 1e-10, "{n} levels: {worst_disagreement:e}");
     }
-    eprintln!("worst relative imbalance over the sweep: {worst_imbalance:e}");
-    assert!(worst_imbalance < 1e-12);
+}
+
+#[test]
+fn default_kernel_follows_system_size() {
+    // common practice, no source: the faster kernel for each size (see BLOCKED_LU_MIN_LEVELS)
+    for (n, expected) in [
+        (1, Factorisation::Unblocked),
+        (BLOCKED_LU_MIN_LEVELS - 1, Factorisation::Unblocked),
+        (BLOCKED_LU_MIN_LEVELS, Factorisation::Blocked),
+        (300, Factorisation::Blocked),
+    ] {
+        assert_eq!(
+            PopulationWorkspace::new(n).unwrap().factorisation(),
+            expected,
+            "{n}"
+        );
+    }
 }
 
 #[test]

@@ -9,7 +9,9 @@ use crate::physics::PhysicsError;
 use crate::physics::emission::critical_densities_cm3;
 use crate::physics::populations::{CollisionalRate, PopulationWorkspace};
 use crate::tables::SpeciesTables;
-use ratewell_proto::rule::{Direction, Location, OutsidePolicy, RuleError, checked_location};
+use ratewell_proto::rule::{
+    Direction, Location, OutsidePolicy, RuleError, checked_location, write_tables_at,
+};
 use rayon::prelude::*;
 use std::sync::Arc;
 use std::sync::atomic::{AtomicBool, Ordering};
@@ -251,11 +253,14 @@ impl Engine {
                 },
             )
             .collect::<Result<_, EngineError>>()?;
-        let mut points: Vec<Option<PointAnswer>> = vec![None; n_points];
+        // Pieces are built in output order and collect keeps their order, so flattening puts
+        // every point at its position (checked in debug builds).
+        let mut points: Vec<PointAnswer> = Vec::with_capacity(n_points);
         for (i, p) in solved.into_iter().flatten() {
-            points[i] = Some(p);
+            debug_assert_eq!(i, points.len());
+            points.push(p);
         }
-        let points: Vec<PointAnswer> = points.into_iter().flatten().collect();
+        debug_assert_eq!(points.len(), n_points);
         let mut cautions = tables.cautions.clone();
         add_flag_cautions(&mut cautions, points.iter().fold(0, |a, p| a | p.flags));
         Ok(SolveAnswer {
@@ -303,6 +308,9 @@ fn split_for_threads(work: Vec<TemperatureWork>, threads: usize) -> Vec<Temperat
 struct Scratch {
     workspace: Result<PopulationWorkspace, PhysicsError>,
     rates: Vec<CollisionalRate>,
+    excitation: Vec<f64>,
+    deexcitation: Vec<f64>,
+    flags: Vec<u32>,
     line_powers_w: Vec<f64>,
 }
 
@@ -311,6 +319,9 @@ impl Scratch {
         Self {
             workspace: PopulationWorkspace::new(n_levels),
             rates: Vec::with_capacity(n_tables),
+            excitation: vec![0.0; n_tables],
+            deexcitation: vec![0.0; n_tables],
+            flags: vec![0; n_tables],
             line_powers_w: Vec::with_capacity(n_lines),
         }
     }
@@ -328,23 +339,37 @@ fn solve_at_temperature(
     let Scratch {
         workspace,
         rates,
+        excitation,
+        deexcitation,
+        flags: value_flags,
         line_powers_w,
     } = scratch;
     let workspace = workspace.as_mut().map_err(|e| EngineError::Solve(e.clone()))?;
-    let mut flags = 0u32;
+    write_tables_at(
+        &tables.tables,
+        &work.location,
+        Direction::Both,
+        excitation,
+        deexcitation,
+        value_flags,
+    )?;
+    let flags = value_flags.iter().fold(0u32, |a, &f| a | f);
     rates.clear();
-    let (mut exc, mut deexc, mut fl) = ([0.0], [0.0], [0u32]);
-    for t in &tables.tables {
-        t.write_at(&work.location, Direction::Both, 0, &mut exc, &mut deexc, &mut fl);
-        flags |= fl[0];
-        let h = t.header();
-        rates.push(CollisionalRate {
-            upper: h.upper as usize - 1,
-            lower: h.lower as usize - 1,
-            excitation_cm3_s: exc[0],
-            deexcitation_cm3_s: deexc[0],
-        });
-    }
+    rates.extend(
+        tables
+            .tables
+            .iter()
+            .zip(excitation.iter().zip(deexcitation.iter()))
+            .map(|(t, (&exc, &deexc))| {
+                let h = t.header();
+                CollisionalRate {
+                    upper: h.upper as usize - 1,
+                    lower: h.lower as usize - 1,
+                    excitation_cm3_s: exc,
+                    deexcitation_cm3_s: deexc,
+                }
+            }),
+    );
     workspace.set_rates(&inputs.radiative, rates)?;
     let critical: Vec<f64> = critical_densities_cm3(inputs.energies_cm1.len(), &inputs.radiative, rates)?
         .into_iter()
@@ -360,18 +385,21 @@ fn solve_at_temperature(
         let power_w: f64 = line_powers_w.iter().sum();
         let strongest = line_powers_w.iter().copied().fold(0.0, f64::max);
         let threshold = min_line_fraction * strongest;
-        let lines = inputs
-            .lines
-            .iter()
-            .zip(line_powers_w.iter())
-            .filter(|&(_, &w)| w >= threshold)
-            .map(|(l, &w)| LineAnswer {
-                upper: l.upper as u32 + 1,
-                lower: l.lower as u32 + 1,
-                wavelength_vacuum_angstrom: l.wavelength_vacuum_angstrom,
-                emissivity: w * power_factor,
-            })
-            .collect();
+        let kept = line_powers_w.iter().filter(|&&w| w >= threshold).count();
+        let mut lines = Vec::with_capacity(kept);
+        lines.extend(
+            inputs
+                .lines
+                .iter()
+                .zip(line_powers_w.iter())
+                .filter(|&(_, &w)| w >= threshold)
+                .map(|(l, &w)| LineAnswer {
+                    upper: l.upper as u32 + 1,
+                    lower: l.lower as u32 + 1,
+                    wavelength_vacuum_angstrom: l.wavelength_vacuum_angstrom,
+                    emissivity: w * power_factor,
+                }),
+        );
         out.push((
             index,
             PointAnswer {
