@@ -241,6 +241,17 @@ impl Engine {
         let work = split_for_threads(work, rayon::current_num_threads());
         let n_levels = inputs.energies_cm1.len();
         let power_factor = query.power_unit.from_watt_factor();
+        // Every line's fixed part once; each point copies it and fills in the emissivities.
+        let lines: Vec<LineAnswer> = inputs
+            .lines
+            .iter()
+            .map(|l| LineAnswer {
+                upper: l.upper as u32 + 1,
+                lower: l.lower as u32 + 1,
+                wavelength_vacuum_angstrom: l.wavelength_vacuum_angstrom,
+                emissivity: 0.0,
+            })
+            .collect();
         let solved: Vec<Vec<(usize, PointAnswer)>> = work
             .par_iter()
             .map_init(
@@ -249,7 +260,15 @@ impl Engine {
                     if cancel.is_cancelled() {
                         return Err(EngineError::Cancelled);
                     }
-                    solve_at_temperature(scratch, &tables, inputs, w, power_factor, query.min_line_fraction)
+                    solve_at_temperature(
+                        scratch,
+                        &tables,
+                        inputs,
+                        &lines,
+                        w,
+                        power_factor,
+                        query.min_line_fraction,
+                    )
                 },
             )
             .collect::<Result<_, EngineError>>()?;
@@ -332,6 +351,7 @@ fn solve_at_temperature(
     scratch: &mut Scratch,
     tables: &SpeciesTables,
     inputs: &SolveInputs,
+    line_template: &[LineAnswer],
     work: &TemperatureWork,
     power_factor: f64,
     min_line_fraction: f64,
@@ -385,21 +405,28 @@ fn solve_at_temperature(
         let power_w: f64 = line_powers_w.iter().sum();
         let strongest = line_powers_w.iter().copied().fold(0.0, f64::max);
         let threshold = min_line_fraction * strongest;
-        let kept = line_powers_w.iter().filter(|&&w| w >= threshold).count();
-        let mut lines = Vec::with_capacity(kept);
-        lines.extend(
-            inputs
-                .lines
-                .iter()
-                .zip(line_powers_w.iter())
-                .filter(|&(_, &w)| w >= threshold)
-                .map(|(l, &w)| LineAnswer {
-                    upper: l.upper as u32 + 1,
-                    lower: l.lower as u32 + 1,
-                    wavelength_vacuum_angstrom: l.wavelength_vacuum_angstrom,
-                    emissivity: w * power_factor,
-                }),
-        );
+        let lines = if threshold <= 0.0 {
+            // Every line is kept (powers are >= 0): copy the template, fill in emissivities.
+            let mut lines = line_template.to_vec();
+            for (line, &w) in lines.iter_mut().zip(line_powers_w.iter()) {
+                line.emissivity = w * power_factor;
+            }
+            lines
+        } else {
+            let kept = line_powers_w.iter().filter(|&&w| w >= threshold).count();
+            let mut lines = Vec::with_capacity(kept);
+            lines.extend(
+                line_template
+                    .iter()
+                    .zip(line_powers_w.iter())
+                    .filter(|&(_, &w)| w >= threshold)
+                    .map(|(line, &w)| LineAnswer {
+                        emissivity: w * power_factor,
+                        ..*line
+                    }),
+            );
+            lines
+        };
         out.push((
             index,
             PointAnswer {
