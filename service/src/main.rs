@@ -8,6 +8,7 @@ use std::process::ExitCode;
 use tracing_subscriber::EnvFilter;
 
 fn main() -> ExitCode {
+    ratewell_service::memory::tune_allocator();
     let flags = Flags::parse();
     let config = match Config::resolve(&flags) {
         Ok(c) => c,

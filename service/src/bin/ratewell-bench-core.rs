@@ -45,6 +45,8 @@ struct Args {
 }
 
 fn main() -> ExitCode {
+    // The same allocator settings as the server, so solves are measured as served.
+    ratewell_service::memory::tune_allocator();
     let args = Args::parse();
     match run(&args) {
         Ok(()) => ExitCode::SUCCESS,
