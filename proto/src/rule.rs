@@ -747,16 +747,7 @@ pub fn write_rows(
     let n = locations.len();
     let total = tables.len().saturating_mul(n);
     check_outputs(total, direction, excitation_cm3_s, deexcitation_cm3_s, flags_out)?;
-    if let Some(first) = tables.first()
-        && let Some(other) = tables.iter().find(|t| t.grid != first.grid)
-    {
-        return Err(RuleError::BadTable {
-            upper: other.header.upper,
-            lower: other.header.lower,
-            field: "grid",
-            message: "differs from the grid of the other tables in the batch".into(),
-        });
-    }
+    check_same_grid(tables.iter().map(|t| &**t))?;
     if n == 0 {
         return Ok(());
     }
@@ -805,16 +796,7 @@ pub fn write_tables_at(
         deexcitation_cm3_s,
         flags_out,
     )?;
-    if let Some(first) = tables.first()
-        && let Some(other) = tables.iter().find(|t| t.grid != first.grid)
-    {
-        return Err(RuleError::BadTable {
-            upper: other.header.upper,
-            lower: other.header.lower,
-            field: "grid",
-            message: "differs from the grid of the other tables in the batch".into(),
-        });
-    }
+    check_same_grid(tables.iter())?;
     let (exc, deexc) = (direction.wants_excitation(), direction.wants_deexcitation());
     for (r, t) in tables.iter().enumerate() {
         let ln_q_ul = t.ln_deexcitation_at(location);
@@ -834,6 +816,23 @@ pub fn write_tables_at(
         width.exp_in_place(excitation_cm3_s);
     }
     Ok(())
+}
+
+/// Refuses a batch whose tables do not all share the first table's grid, naming the first
+/// table that differs.
+fn check_same_grid<'a>(mut tables: impl Iterator<Item = &'a RateTable>) -> Result<(), RuleError> {
+    let Some(first) = tables.next() else {
+        return Ok(());
+    };
+    match tables.find(|t| t.grid != first.grid) {
+        Some(other) => Err(RuleError::BadTable {
+            upper: other.header.upper,
+            lower: other.header.lower,
+            field: "grid",
+            message: "differs from the grid of the other tables in the batch".into(),
+        }),
+        None => Ok(()),
+    }
 }
 
 /// `count` rows of length `n` of `buffer`, or `count` empty slices for an unwanted direction.
@@ -1568,24 +1567,29 @@ mod tests {
         assert!(ln(-1.0).is_nan() && ln(f64::NAN).is_nan());
     }
 
+    /// `count` tables on grid `g` with different shapes, energies and flags (invented).
+    fn varied_tables(g: LogGrid, count: u32) -> Vec<RateTable> {
+        (0..count)
+            .map(|k| {
+                let mut h = header();
+                h.upper = 2 + k;
+                h.approximate = k % 7 == 0;
+                h.excitation_energy_k = 1.0e3 * f64::from(1 + k % 40);
+                let y = (0..g.knots())
+                    .map(|i| (0.3 * i as f64 + 0.1 * f64::from(k)).cos() - 1.0)
+                    .collect();
+                RateTable::from_knots(h, g, y).unwrap()
+            })
+            .collect()
+    }
+
     #[test]
     fn many_tables_equal_one_table_at_a_time_bit_for_bit() {
         // The contract (DESIGN.md "One evaluation rule"): the many-table entry point, on the
         // calling thread (small batches) and spread over threads (large ones), gives each row
         // the same bits as that table alone.
         let g = LogGrid::from_range(1e3, 1e7, 20).unwrap();
-        let tables: Vec<RateTable> = (0..300)
-            .map(|k| {
-                let mut h = header();
-                h.upper = 2 + k;
-                h.approximate = k % 7 == 0;
-                h.excitation_energy_k = 1.0e3 * (1 + k % 40) as f64;
-                let y = (0..g.knots())
-                    .map(|i| (0.3 * i as f64 + 0.1 * k as f64).cos() - 1.0)
-                    .collect();
-                RateTable::from_knots(h, g, y).unwrap()
-            })
-            .collect();
+        let tables = varied_tables(g, 300);
         let refs: Vec<&RateTable> = tables.iter().collect();
         for (rows, n) in [(3usize, 5usize), (300, 256)] {
             let temps: Vec<f64> = spread(n, 2.5, 7.5).map(|e| 10f64.powf(e)).collect();
@@ -1650,18 +1654,7 @@ mod tests {
         // The contract (DESIGN.md "One evaluation rule"): every path gives the same bits.
         // Temperatures below, inside and above the grid cover every select.
         let g = LogGrid::from_range(1e3, 1e7, 20).unwrap();
-        let tables: Vec<RateTable> = (0..257)
-            .map(|k| {
-                let mut h = header();
-                h.upper = 2 + k;
-                h.approximate = k % 5 == 0;
-                h.excitation_energy_k = 7.0e2 * (1 + k % 30) as f64;
-                let y = (0..g.knots())
-                    .map(|i| (0.25 * i as f64 + 0.07 * k as f64).sin() - 0.5)
-                    .collect();
-                RateTable::from_knots(h, g, y).unwrap()
-            })
-            .collect();
+        let tables = varied_tables(g, 257);
         let n = tables.len();
         for t_k in [300.0, 1e3, 2.2e4, 9.9e6, 1e7, 4e8] {
             let loc = g.locate(t_k);
