@@ -75,7 +75,7 @@ pub enum ClientError {
     /// A bad argument, caught before anything was sent.
     #[error("{field} = {value}: {allowed}")]
     InvalidArgument {
-        /// The argument's name (with index for arrays, e.g. `temperature[3]`).
+        /// The argument's name (with index for arrays, e.g. `temperatures[3]`).
         field: String,
         /// The offending value, with its unit where it has one.
         value: String,
@@ -141,9 +141,9 @@ mod tests {
 
     #[test]
     fn messages_name_field_value_and_range() {
-        // Message shape required by the project rules: "temperature[3] = -5 K: must be > 0".
-        let e = ClientError::invalid("temperature[3]", "-5 K", "must be finite and > 0");
-        assert_eq!(e.to_string(), "temperature[3] = -5 K: must be finite and > 0");
+        // Message shape required by the project rules: "temperatures[3] = -5 K: must be > 0".
+        let e = ClientError::invalid("temperatures[3]", "-5 K", "must be finite and > 0");
+        assert_eq!(e.to_string(), "temperatures[3] = -5 K: must be finite and > 0");
         let e = ClientError::HashMismatch {
             expected: "aa".into(),
             got: "bb".into(),

@@ -332,7 +332,7 @@ pub(crate) mod tests {
             .unwrap_err();
         assert!(
             err.to_string()
-                .starts_with("temperature[1] = 20000000 K: outside the table grid"),
+                .starts_with("temperatures[1] = 20000000 K: outside the table grid"),
             "{err}"
         );
         let opts = EvalOptions {
@@ -347,7 +347,7 @@ pub(crate) mod tests {
         let err = t
             .evaluate_into(&[], &[5e3, -1.0], EvalOptions::default(), &mut out)
             .unwrap_err();
-        assert_eq!(err.to_string(), "temperature[1] = -1 K: must be finite and > 0");
+        assert_eq!(err.to_string(), "temperatures[1] = -1 K: must be finite and > 0");
     }
 
     #[test]

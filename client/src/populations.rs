@@ -229,7 +229,7 @@ mod tests {
         bad.densities[1] = -3.0;
         assert_eq!(
             bad.validate().unwrap_err().to_string(),
-            "density[1] = -3 cm-3: must be finite and > 0"
+            "densities[1] = -3 cm-3: must be finite and > 0"
         );
     }
 

@@ -201,7 +201,7 @@ pub fn check_temperatures(values: &[f64], unit: TemperatureUnit) -> Result<(), C
             "at least one temperature is needed",
         ));
     }
-    check_positive("temperature", values, unit.symbol())
+    check_positive("temperatures", values, unit.symbol())
 }
 
 /// Checks that every density is finite and > 0, naming the first bad one.
@@ -213,7 +213,7 @@ pub fn check_densities(values: &[f64], unit: DensityUnit) -> Result<(), ClientEr
             "at least one density is needed",
         ));
     }
-    check_positive("density", values, unit.symbol())
+    check_positive("densities", values, unit.symbol())
 }
 
 fn check_positive(name: &str, values: &[f64], symbol: &str) -> Result<(), ClientError> {
@@ -332,16 +332,16 @@ mod tests {
         let err = temperatures_to_k(&[5000.0, 1e4, 2e4, -5.0], TemperatureUnit::Kelvin)
             .unwrap_err()
             .to_string();
-        assert_eq!(err, "temperature[3] = -5 K: must be finite and > 0");
+        assert_eq!(err, "temperatures[3] = -5 K: must be finite and > 0");
         let err = check_temperatures(&[f64::NAN], TemperatureUnit::ElectronVolt)
             .unwrap_err()
             .to_string();
-        assert_eq!(err, "temperature[0] = NaN eV: must be finite and > 0");
+        assert_eq!(err, "temperatures[0] = NaN eV: must be finite and > 0");
         assert!(check_temperatures(&[], TemperatureUnit::Kelvin).is_err());
         let err = check_densities(&[1e10, 0.0], DensityUnit::PerCubicCentimetre)
             .unwrap_err()
             .to_string();
-        assert_eq!(err, "density[1] = 0 cm-3: must be finite and > 0");
+        assert_eq!(err, "densities[1] = 0 cm-3: must be finite and > 0");
     }
 
     #[test]

@@ -85,7 +85,7 @@ fn bad_arguments_exit_2_naming_argument_value_and_range() {
     assert_eq!(out.status.code(), Some(2));
     assert_eq!(
         text(&out.stderr).trim(),
-        "error: --temperatures: temperature[1] = -3 K: must be finite and > 0"
+        "error: --temperatures: temperatures[1] = -3 K: must be finite and > 0"
     );
     let out = ratewell(
         &server.url(),

@@ -96,7 +96,7 @@ async fn bad_arguments_are_refused_before_sending() {
         .lookup_rates(&RateQuery::new("X", vec![5e3, -5.0]))
         .await
         .unwrap_err();
-    assert_eq!(err.to_string(), "temperature[1] = -5 K: must be finite and > 0");
+    assert_eq!(err.to_string(), "temperatures[1] = -5 K: must be finite and > 0");
     assert_eq!(server.state.count("LookupRates"), 0);
     let no_dataset = Client::new(ClientConfig::new(server.url())).unwrap();
     let err = no_dataset.fetch_tables("X", None).await.unwrap_err();

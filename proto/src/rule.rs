@@ -40,7 +40,7 @@ const END_SLACK_STEPS: f64 = 1e-9;
 #[derive(Debug, Clone, PartialEq, thiserror::Error)]
 pub enum RuleError {
     /// A temperature that is not a finite positive number.
-    #[error("temperature[{index}] = {value_k} K: must be finite and > 0")]
+    #[error("temperatures[{index}] = {value_k} K: must be finite and > 0")]
     TemperatureNotPositive {
         /// Position in the request.
         index: usize,
@@ -49,7 +49,7 @@ pub enum RuleError {
     },
     /// A temperature outside the grid while extrapolation is refused.
     #[error(
-        "temperature[{index}] = {value_k} K: outside the table grid [{min_k}, {max_k}] K and extrapolation was not allowed"
+        "temperatures[{index}] = {value_k} K: outside the table grid [{min_k}, {max_k}] K and extrapolation was not allowed"
     )]
     OutsideGrid {
         /// Position in the request.

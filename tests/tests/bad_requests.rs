@@ -184,7 +184,12 @@ async fn outside_the_grid_is_refused_or_extrapolated_and_flagged() {
     assert_status(
         &status,
         Code::OutOfRange,
-        &["5 K", "outside the table grid", "extrapolation was not allowed"],
+        // named by the request's own field: temperatures[1]
+        &[
+            "temperatures[1] = 5 K",
+            "outside the table grid",
+            "extrapolation was not allowed",
+        ],
     );
     // Unspecified means refuse.
     let mut req = lookup(MK_III, vec![2e9]);
@@ -197,7 +202,11 @@ async fn outside_the_grid_is_refused_or_extrapolated_and_flagged() {
     );
     let req = solve(MK_III, vec![5.0], vec![1e3], false);
     let status = refused(server.populations().solve_populations(req).await);
-    assert_status(&status, Code::OutOfRange, &["5 K", "outside the table grid"]);
+    assert_status(
+        &status,
+        Code::OutOfRange,
+        &["temperatures[0] = 5 K", "outside the table grid"],
+    );
 
     let mut req = lookup(MK_III, vec![1e4, 5.0, 2e9]);
     req.outside_grid = pb::OutsideGrid::Extrapolate as i32;

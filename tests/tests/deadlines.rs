@@ -2,7 +2,9 @@
 //! ends the call at the deadline, not when the solve finishes, and the server keeps serving;
 //! the status of such a call must be DEADLINE_EXCEEDED.
 
-use ratewell_e2e::requests::{MK_II, MK_III, assert_status, log_spaced, lookup, refused, solve};
+use ratewell_e2e::requests::{
+    BIG_SOLVE_AXIS, MK_II, MK_III, assert_status, log_spaced, lookup, refused, solve,
+};
 use ratewell_e2e::{TestServer, test_config};
 use ratewell_proto::pb;
 use std::time::{Duration, Instant};
@@ -12,11 +14,6 @@ use tonic_health::pb::health_check_response::ServingStatus;
 
 /// The client's deadline (shorter in release builds, whose solves are ~100x faster).
 const DEADLINE: Duration = Duration::from_millis(if cfg!(debug_assertions) { 100 } else { 20 });
-
-/// Points per axis of the big solve, for 34 levels on 2 cores: measured 400 points take ~1 s
-/// in a debug build and ~5 ms in a release build, so a release build solves 160 x 160 (~0.2 s,
-/// an answer of ~15 MB).
-const BIG_SOLVE_AXIS: usize = if cfg!(debug_assertions) { 20 } else { 160 };
 
 /// A solve much longer than [`DEADLINE`]: 34 levels at BIG_SOLVE_AXIS^2 points (only the
 /// strongest line reported, to keep the answer small).

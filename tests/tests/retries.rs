@@ -6,7 +6,7 @@
 use ratewell_client::{
     Client, ClientConfig, DatasetRef, PopulationQuery, RateQuery, RetryPolicy, ServingStatus,
 };
-use ratewell_e2e::requests::{MK_II, MK_III, log_spaced};
+use ratewell_e2e::requests::{BIG_SOLVE_AXIS, MK_II, MK_III, log_spaced};
 use ratewell_e2e::{TestServer, test_config};
 use std::time::Duration;
 use tonic::Code;
@@ -33,9 +33,13 @@ fn no_retries() -> RetryPolicy {
     }
 }
 
-/// About a second of server work (34 levels, 400 points, strongest line only).
+/// About a second of server work (34 levels, BIG_SOLVE_AXIS^2 points, strongest line only).
 fn big_solve() -> PopulationQuery {
-    let mut q = PopulationQuery::grid(MK_II, log_spaced(2e3, 2e5, 20), log_spaced(1e2, 1e10, 20));
+    let mut q = PopulationQuery::grid(
+        MK_II,
+        log_spaced(2e3, 2e5, BIG_SOLVE_AXIS),
+        log_spaced(1e2, 1e10, BIG_SOLVE_AXIS),
+    );
     q.min_line_fraction = 1.0;
     q
 }
@@ -75,7 +79,7 @@ async fn a_call_shed_by_a_busy_server_is_retried_until_it_succeeds() {
     let answer = patient.lookup_rates(&query).await.expect("retried until served");
     assert_eq!(answer.deexcitation.len(), 10);
     let solved = (&mut solve).await.expect("solve task").expect("the solve itself");
-    assert_eq!(solved.points.len(), 400);
+    assert_eq!(solved.points.len(), BIG_SOLVE_AXIS * BIG_SOLVE_AXIS);
 }
 
 #[tokio::test(flavor = "multi_thread", worker_threads = 2)]

@@ -5,16 +5,21 @@
 //! while the big solve holds the only engine permit a cheap probe is shed with
 //! RESOURCE_EXHAUSTED.
 
-use ratewell_e2e::requests::{MK_II, MK_III, log_spaced, lookup, solve};
+use ratewell_e2e::requests::{BIG_SOLVE_AXIS, MK_II, MK_III, log_spaced, lookup, solve};
 use ratewell_e2e::{TestServer, test_config};
 use ratewell_proto::pb;
 use std::time::{Duration, Instant};
 use tokio::task::JoinHandle;
 use tonic::{Code, Status};
 
-/// About a second of work in a debug build (34 levels, 400 points, strongest line only).
+/// About a second of work (34 levels, BIG_SOLVE_AXIS^2 points, strongest line only).
 fn big_solve() -> pb::SolvePopulationsRequest {
-    let mut req = solve(MK_II, log_spaced(2e3, 2e5, 20), log_spaced(1e2, 1e10, 20), true);
+    let mut req = solve(
+        MK_II,
+        log_spaced(2e3, 2e5, BIG_SOLVE_AXIS),
+        log_spaced(1e2, 1e10, BIG_SOLVE_AXIS),
+        true,
+    );
     req.min_line_fraction = 1.0;
     req
 }
@@ -82,7 +87,11 @@ async fn an_in_flight_call_completes_during_graceful_shutdown() {
         .await
         .expect("solve task")
         .expect("the in-flight solve completes");
-    assert_eq!(answer.points.len(), 400, "the full answer");
+    assert_eq!(
+        answer.points.len(),
+        BIG_SOLVE_AXIS * BIG_SOLVE_AXIS,
+        "the full answer"
+    );
     assert!(answer.points.iter().all(|p| p.fractions.len() == 34));
     stopped.await.expect("stop task").expect("clean stop");
     assert!(

@@ -70,8 +70,9 @@ mod tests {
         };
         assert_eq!(CliError::from(t).exit_code(), 1);
         assert_eq!(
-            CliError::argument("--temperatures", "temperature[1] = -3 K: must be finite and > 0").to_string(),
-            "--temperatures: temperature[1] = -3 K: must be finite and > 0"
+            CliError::argument("--temperatures", "temperatures[1] = -3 K: must be finite and > 0")
+                .to_string(),
+            "--temperatures: temperatures[1] = -3 K: must be finite and > 0"
         );
     }
 }
