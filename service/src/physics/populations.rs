@@ -328,13 +328,6 @@ impl PopulationWorkspace {
         })
     }
 
-    /// The residual r = b - M x of the current solution into `correction` (b = e_0).
-    fn residual_into_correction(&mut self) {
-        self.correction.fill(0.0);
-        self.correction[0] = 1.0;
-        self.correction.gemv(-1.0, &self.system, &self.solution, 1.0);
-    }
-
     /// nalgebra LU of `system`, solve for e_0, one refinement step. False if singular.
     /// Systems of up to [`STATIC_MAX_LEVELS`] levels use nalgebra's fixed-size matrices (the
     /// same LU, on the stack, with no per-call allocation).
@@ -369,7 +362,7 @@ impl PopulationWorkspace {
         self.solution[0] = 1.0;
         let mut ok = lu.solve_mut(&mut self.solution);
         if ok {
-            self.residual_into_correction();
+            residual_into(&mut self.correction, &self.system, &self.solution);
             ok = lu.solve_mut(&mut self.correction);
             self.solution += &self.correction;
         }
@@ -409,9 +402,7 @@ impl PopulationWorkspace {
             );
         };
         solve(&mut self.solution, &mut lu.scratch);
-        self.correction.fill(0.0);
-        self.correction[0] = 1.0;
-        self.correction.gemv(-1.0, &self.system, &self.solution, 1.0);
+        residual_into(&mut self.correction, &self.system, &self.solution);
         solve(&mut self.correction, &mut lu.scratch);
         self.solution += &self.correction;
         true
@@ -477,6 +468,13 @@ impl PopulationWorkspace {
         }
         worst
     }
+}
+
+/// The residual r = e_0 - M x of solution `x` of `system` M, into `out`.
+fn residual_into(out: &mut DVector<f64>, system: &DMatrix<f64>, x: &DVector<f64>) {
+    out.fill(0.0);
+    out[0] = 1.0;
+    out.gemv(-1.0, system, x, 1.0);
 }
 
 /// LU solve of `system x = e_0` with one refinement step, in fixed-size storage, into `out`.
