@@ -76,6 +76,7 @@ pub struct Populations {
 pub const BLOCKED_LU_MIN_LEVELS: usize = 40;
 
 /// Systems of at most this many levels are factored in nalgebra's fixed-size (stack) matrices.
+/// Keep in step with the literal sizes listed in `solve_unblocked` (nalgebra needs literals).
 pub const STATIC_MAX_LEVELS: usize = 12;
 
 /// Which LU factorisation a [`PopulationWorkspace`] uses. Both pivot by rows (partial
