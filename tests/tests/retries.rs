@@ -33,7 +33,7 @@ fn no_retries() -> RetryPolicy {
     }
 }
 
-/// About a second of server work (34 levels, BIG_SOLVE_AXIS^2 points, strongest line only).
+/// `requests::big_solve` as a client query (34 levels, BIG_SOLVE_AXIS^2 points, strongest line).
 fn big_solve() -> PopulationQuery {
     let mut q = PopulationQuery::grid(
         MK_II,

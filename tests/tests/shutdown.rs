@@ -5,24 +5,12 @@
 //! while the big solve holds the only engine permit a cheap probe is shed with
 //! RESOURCE_EXHAUSTED.
 
-use ratewell_e2e::requests::{BIG_SOLVE_AXIS, MK_II, MK_III, log_spaced, lookup, solve};
+use ratewell_e2e::requests::{BIG_SOLVE_AXIS, MK_III, big_solve, lookup};
 use ratewell_e2e::{TestServer, test_config};
 use ratewell_proto::pb;
 use std::time::{Duration, Instant};
 use tokio::task::JoinHandle;
 use tonic::{Code, Status};
-
-/// About a second of work (34 levels, BIG_SOLVE_AXIS^2 points, strongest line only).
-fn big_solve() -> pb::SolvePopulationsRequest {
-    let mut req = solve(
-        MK_II,
-        log_spaced(2e3, 2e5, BIG_SOLVE_AXIS),
-        log_spaced(1e2, 1e10, BIG_SOLVE_AXIS),
-        true,
-    );
-    req.min_line_fraction = 1.0;
-    req
-}
 
 type SolveTask = JoinHandle<Result<pb::SolvePopulationsResponse, Status>>;
 
