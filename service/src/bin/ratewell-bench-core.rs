@@ -42,6 +42,10 @@ struct Args {
     /// Only time precompute, for a species of this many levels (for profiling).
     #[arg(long)]
     precompute_only: Option<usize>,
+    /// Only time population solves, for this one level count of the comparison (5, 20, 50
+    /// or 200; for profiling).
+    #[arg(long, value_parser = clap::builder::PossibleValuesParser::new(["5", "20", "50", "200"]))]
+    solve_only: Option<String>,
 }
 
 fn main() -> ExitCode {
@@ -67,6 +71,11 @@ fn run(args: &Args) -> Result<(), Failure> {
         eprintln!("precompute: {}", measure_precompute(&files, reps)?);
         return Ok(());
     }
+    if let Some(levels) = &args.solve_only {
+        let levels: usize = levels.parse()?;
+        measure_solves(&args.out.join("solve"), &[levels], reps, args.quick)?;
+        return Ok(());
+    }
     let data_dir = args.out.join("data");
     write_dataset(&data_dir.join("bench-eval"), "bench-eval", &[EVAL_LEVELS])?;
     eprintln!("wrote {}", data_dir.join("bench-eval").display());
@@ -76,7 +85,7 @@ fn run(args: &Args) -> Result<(), Failure> {
 
     let precompute = measure_precompute(&large_files, reps)?;
     eprintln!("precompute: {precompute}");
-    let solves = measure_solves(&args.out.join("solve"), reps, args.quick)?;
+    let solves = measure_solves(&args.out.join("solve"), &SOLVE_LEVELS, reps, args.quick)?;
     let report = json!({
         "machine": machine(),
         "precompute": precompute,
@@ -173,7 +182,7 @@ fn solve_points(levels: usize, quick: bool) -> (Vec<f64>, Vec<f64>) {
 /// Solves per point through the engine (rates from tables, populations, lines, critical
 /// densities, parallel over temperatures) and through the physics workspace alone (assembly,
 /// LU, refinement; one thread). Writes A and q matrices for the numpy baseline.
-fn measure_solves(dir: &Path, reps: usize, quick: bool) -> Result<Value, Failure> {
+fn measure_solves(dir: &Path, levels: &[usize], reps: usize, quick: bool) -> Result<Value, Failure> {
     std::fs::create_dir_all(dir)?;
     let files = synthetic::dataset_files("bench-solve", &SOLVE_LEVELS, synthetic::Mix::default());
     let engine = Engine::new(EngineConfig::default());
@@ -181,6 +190,9 @@ fn measure_solves(dir: &Path, reps: usize, quick: bool) -> Result<Value, Failure
     let loaded = engine.select(&selector())?;
     let mut rows = Vec::new();
     for (charge, &n) in SOLVE_LEVELS.iter().enumerate() {
+        if !levels.contains(&n) {
+            continue;
+        }
         let name = synthetic::species_name(charge as u32);
         let (temps, dens) = solve_points(n, quick);
         let points = temps.len() * dens.len();

@@ -6,7 +6,7 @@ use super::lookup::{add_flag_cautions, temperatures_in_kelvin};
 use super::units::{DensityUnit, PowerUnit, TemperatureUnit};
 use super::{Engine, EngineError, GridSpec, Selector, SolveInputs, Stamp};
 use crate::physics::PhysicsError;
-use crate::physics::emission::critical_densities_cm3;
+use crate::physics::emission::{PowerSummary, critical_densities_cm3, line_powers_into};
 use crate::physics::populations::{CollisionalRate, PopulationWorkspace};
 use crate::tables::SpeciesTables;
 use ratewell_proto::rule::{
@@ -400,18 +400,21 @@ fn solve_at_temperature(
         let view = workspace.solve(ne)?;
         let fractions = view.fractions.to_vec();
         let residual = view.max_relative_imbalance;
-        line_powers_w.clear();
-        line_powers_w.extend(inputs.lines.iter().map(|l| l.emissivity_w_per_ion(&fractions)));
-        let power_w: f64 = line_powers_w.iter().sum();
-        let strongest = line_powers_w.iter().copied().fold(0.0, f64::max);
+        let PowerSummary {
+            total_w: power_w,
+            strongest_w: strongest,
+        } = line_powers_into(&inputs.lines, &fractions, line_powers_w);
         let threshold = min_line_fraction * strongest;
-        let lines = if threshold <= 0.0 {
-            // Every line is kept (powers are >= 0): copy the template, fill in emissivities.
-            let mut lines = line_template.to_vec();
-            for (line, &w) in lines.iter_mut().zip(line_powers_w.iter()) {
-                line.emissivity = w * power_factor;
-            }
-            lines
+        let lines: Vec<LineAnswer> = if threshold <= 0.0 {
+            // Every line is kept (powers are >= 0): the template with emissivities filled in.
+            line_template
+                .iter()
+                .zip(line_powers_w.iter())
+                .map(|(line, &w)| LineAnswer {
+                    emissivity: w * power_factor,
+                    ..*line
+                })
+                .collect()
         } else {
             let kept = line_powers_w.iter().filter(|&&w| w >= threshold).count();
             let mut lines = Vec::with_capacity(kept);
