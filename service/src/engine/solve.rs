@@ -83,8 +83,9 @@ pub struct PointAnswer {
     /// OR of the flag bits of every rate used.
     pub flags: u32,
     /// Critical density per level, cm^-3 (0 for levels without radiative decay, infinity for
-    /// levels without collisional depopulation).
-    pub critical_densities_per_cm3: Vec<f64>,
+    /// levels without collisional depopulation). They depend on the temperature only, so the
+    /// points of one temperature share one list.
+    pub critical_densities_per_cm3: Arc<[f64]>,
 }
 
 /// The answer to a [`SolveQuery`].
@@ -391,7 +392,7 @@ fn solve_at_temperature(
             }),
     );
     workspace.set_rates(&inputs.radiative, rates)?;
-    let critical: Vec<f64> = critical_densities_cm3(inputs.energies_cm1.len(), &inputs.radiative, rates)?
+    let critical: Arc<[f64]> = critical_densities_cm3(inputs.energies_cm1.len(), &inputs.radiative, rates)?
         .into_iter()
         .map(|c| c.unwrap_or(f64::INFINITY))
         .collect();
@@ -440,7 +441,7 @@ fn solve_at_temperature(
                 radiated_power: power_w * power_factor,
                 residual,
                 flags,
-                critical_densities_per_cm3: critical.clone(),
+                critical_densities_per_cm3: Arc::clone(&critical),
             },
         ));
     }
