@@ -3,6 +3,7 @@
 //! BadRequest field violations.
 
 use ratewell_proto::pb;
+use std::time::{Duration, Instant};
 use tonic::{Code, Status};
 use tonic_types::StatusExt;
 
@@ -92,6 +93,31 @@ pub fn big_solve() -> pb::SolvePopulationsRequest {
     );
     req.min_line_fraction = 1.0;
     req
+}
+
+/// The shortest big solve that still leaves room for the tenth-of-the-solve deadlines and
+/// drain periods the tests derive from it.
+const SHORTEST_BIG_SOLVE: Duration = Duration::from_millis(30);
+
+/// How long [`big_solve`] takes on `server` here and now, with no deadline (the answer is
+/// checked to be whole). Tests that need a deadline or a drain period shorter than the solve
+/// take a fraction of this, so they hold however fast the machine and the build are.
+pub async fn time_big_solve(server: &crate::TestServer) -> Duration {
+    let started = Instant::now();
+    let full = server
+        .populations()
+        .solve_populations(big_solve())
+        .await
+        .expect("the big solve without a deadline")
+        .into_inner();
+    let solve_time = started.elapsed();
+    assert_eq!(full.points.len(), BIG_SOLVE_AXIS * BIG_SOLVE_AXIS);
+    assert!(
+        solve_time > SHORTEST_BIG_SOLVE,
+        "the big solve ({solve_time:?}) is too quick to hold a deadline inside it: \
+         raise BIG_SOLVE_AXIS"
+    );
+    solve_time
 }
 
 /// `n` values spaced evenly in log from `min` to `max` (both included; `n` >= 2).

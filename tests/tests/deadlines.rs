@@ -4,6 +4,7 @@
 
 use ratewell_e2e::requests::{
     BIG_SOLVE_AXIS, MK_II, MK_III, assert_status, big_solve, log_spaced, lookup, refused, solve,
+    time_big_solve,
 };
 use ratewell_e2e::{TestServer, test_config};
 use std::time::{Duration, Instant};
@@ -15,32 +16,15 @@ use tonic_health::pb::health_check_response::ServingStatus;
 /// before the solve would, however fast this machine and build are.
 const DEADLINE_PER_SOLVE: u32 = 10;
 
-/// The shortest solve that still leaves a meaningful deadline (a tenth of it).
-const SHORTEST_MEASURED_SOLVE: Duration = Duration::from_millis(30);
-
 fn with_deadline<T>(message: T, deadline: Duration) -> Request<T> {
     let mut r = Request::new(message);
     r.set_timeout(deadline);
     r
 }
 
-/// Runs the big solve with no deadline and returns how long it took here and now, with a
-/// deadline a tenth of that.
+/// How long the big solve takes here and now, and a deadline a tenth of that.
 async fn measure_big_solve(server: &TestServer) -> (Duration, Duration) {
-    let started = Instant::now();
-    let full = server
-        .populations()
-        .solve_populations(big_solve())
-        .await
-        .expect("solve without a deadline")
-        .into_inner();
-    let solve_time = started.elapsed();
-    assert_eq!(full.points.len(), BIG_SOLVE_AXIS * BIG_SOLVE_AXIS);
-    assert!(
-        solve_time > SHORTEST_MEASURED_SOLVE,
-        "the big solve ({solve_time:?}) is too quick to hold a deadline inside it: \
-         raise BIG_SOLVE_AXIS"
-    );
+    let solve_time = time_big_solve(server).await;
     (solve_time, solve_time / DEADLINE_PER_SOLVE)
 }
 

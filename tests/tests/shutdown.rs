@@ -5,7 +5,7 @@
 //! while the big solve holds the only engine permit a cheap probe is shed with
 //! RESOURCE_EXHAUSTED.
 
-use ratewell_e2e::requests::{BIG_SOLVE_AXIS, MK_III, big_solve, lookup};
+use ratewell_e2e::requests::{BIG_SOLVE_AXIS, MK_III, big_solve, lookup, time_big_solve};
 use ratewell_e2e::{TestServer, test_config};
 use ratewell_proto::pb;
 use std::time::{Duration, Instant};
@@ -57,11 +57,12 @@ async fn solve_in_flight(server: &TestServer) -> SolveTask {
 
 #[tokio::test(flavor = "multi_thread", worker_threads = 2)]
 async fn an_in_flight_call_completes_during_graceful_shutdown() {
+    let solve_time = time_big_solve(&TestServer::start().await).await;
     let config = ratewell_service::config::Config {
         // One engine call at a time, so a probe can see the solve in flight.
         max_in_flight: 1,
         // Much shorter than the solve, so the graceful stop begins while it runs.
-        drain: Duration::from_millis(50),
+        drain: solve_time / 10,
         ..test_config()
     };
     let mut server = TestServer::start_with(config).await;
@@ -95,11 +96,12 @@ async fn an_in_flight_call_completes_during_graceful_shutdown() {
 
 #[tokio::test(flavor = "multi_thread", worker_threads = 2)]
 async fn shutdown_grace_bounds_the_wait_for_in_flight_calls() {
+    let solve_time = time_big_solve(&TestServer::start().await).await;
     let config = ratewell_service::config::Config {
         max_in_flight: 1,
         drain: Duration::ZERO,
         // Far shorter than the solve: the stop must not wait for it.
-        shutdown_grace: Duration::from_millis(100),
+        shutdown_grace: solve_time / 10,
         ..test_config()
     };
     let mut server = TestServer::start_with(config).await;
