@@ -47,6 +47,10 @@ enum Command {
         /// Fewer repetitions, for checking that the harness runs.
         #[arg(long)]
         quick: bool,
+        /// Only the small-call latencies, against a server on the demo dataset (for
+        /// profiling; prints, writes nothing).
+        #[arg(long)]
+        latency_only: bool,
     },
     /// Join the measurements, print the ratio table, write results and the plot.
     Report {
@@ -67,7 +71,14 @@ fn main() -> ExitCode {
             data_dir,
             work,
             quick,
-        } => measure::run(&server_bin, &data_dir, &work, quick),
+            latency_only,
+        } => {
+            if latency_only {
+                measure::run_latency_only(&server_bin, quick)
+            } else {
+                measure::run(&server_bin, &data_dir, &work, quick)
+            }
+        }
         Command::Report { work, command_line } => report::run(&work, &command_line),
     };
     match result {

@@ -48,6 +48,11 @@ impl Drop for Server {
 }
 
 impl Server {
+    /// The child's process id.
+    fn pid(&self) -> u32 {
+        self.child.id()
+    }
+
     /// Starts `bin` on a free loopback port with the benchmark endpoints and `extra` flags.
     fn start(bin: &Path, extra: &[&str]) -> Result<Self, Failure> {
         let port = std::net::TcpListener::bind("127.0.0.1:0")?.local_addr()?.port();
@@ -211,6 +216,20 @@ pub(crate) fn run(server_bin: &Path, data_dir: &Path, work: &Path, quick: bool) 
     std::fs::write(&path, serde_json::to_string_pretty(&report)?)?;
     eprintln!("wrote {}", path.display());
     Ok(())
+}
+
+/// Only the small-call latencies, against a server on the embedded demo dataset.
+pub(crate) fn run_latency_only(server_bin: &Path, quick: bool) -> Result<(), Failure> {
+    let runtime = tokio::runtime::Builder::new_multi_thread().enable_all().build()?;
+    runtime.block_on(async {
+        let mut server = Server::start(server_bin, &[])?;
+        server
+            .wait_ready("demo", "Mk III", Duration::from_secs(30))
+            .await?;
+        eprintln!("server pid {}", server.pid());
+        measure_latency(&server, quick).await?;
+        Ok(())
+    })
 }
 
 async fn measure_all(server_bin: &Path, data_dir: &Path, work: &Path, quick: bool) -> Result<Value, Failure> {
