@@ -44,8 +44,8 @@ struct Args {
     precompute_only: Option<usize>,
     /// Only time population solves, for this one level count of the comparison (5, 20, 50
     /// or 200; for profiling).
-    #[arg(long, value_parser = clap::builder::PossibleValuesParser::new(["5", "20", "50", "200"]))]
-    solve_only: Option<String>,
+    #[arg(long)]
+    solve_only: Option<usize>,
 }
 
 fn main() -> ExitCode {
@@ -73,8 +73,10 @@ fn run(args: &Args) -> Result<(), Failure> {
         eprintln!("precompute: {}", measure_precompute(&files, reps)?);
         return Ok(());
     }
-    if let Some(levels) = &args.solve_only {
-        let levels: usize = levels.parse()?;
+    if let Some(levels) = args.solve_only {
+        if !SOLVE_LEVELS.contains(&levels) {
+            return Err(format!("--solve-only {levels}: must be one of {SOLVE_LEVELS:?}").into());
+        }
         measure_solves(&args.out.join("solve"), &[levels], solve_reps, args.quick)?;
         return Ok(());
     }
