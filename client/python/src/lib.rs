@@ -1,0 +1,1 @@
+//! Python package over the ratewell client library (work in progress in this commit: empty).
