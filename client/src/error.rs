@@ -97,6 +97,15 @@ pub enum ClientError {
     /// The evaluation rule refused (outside the grid, bad table, bad temperature).
     #[error(transparent)]
     Rule(#[from] RuleError),
+    /// A table file could not be written, or was refused when read (not a table file, a
+    /// newer format, truncated, corrupted, or its tables do not match their digest).
+    #[error("table file {path}: {message}")]
+    TableFile {
+        /// The file (or folder) concerned, as the caller named it.
+        path: String,
+        /// What is wrong.
+        message: String,
+    },
     /// No tokio runtime is running where one is needed, or a blocking call was made inside one.
     #[error("runtime: {0}")]
     Runtime(String),

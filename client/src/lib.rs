@@ -16,6 +16,8 @@
 //! - [`PopulationQuery`] (`populations`): population questions, chunked for long work.
 //! - [`compare_tables`] (`compare`): two table sets compared in-process.
 //! - `units`: temperature, rate, density, power and energy units.
+//! - `table_file`: table files ([`LocalTables::save`], [`LocalTables::load`]) for nodes with
+//!   no route to a server, and the shared cache directory ([`ClientConfig::with_cache_dir`]).
 //! - [`RetryPolicy`] (`retry`): which failures are retried and the backoff between attempts.
 //! - `transport`: one lazily connected channel per endpoint, failover between them.
 //! - [`ServingStatus`] (`health`): standard gRPC health checking.
@@ -45,6 +47,7 @@ mod local;
 mod populations;
 mod rates;
 mod retry;
+mod table_file;
 mod transition;
 mod transport;
 pub mod units;
@@ -62,6 +65,7 @@ pub use local::LocalTables;
 pub use populations::PopulationQuery;
 pub use rates::{EvalOptions, RateBuffers, RateLookup, RateQuery};
 pub use retry::{RetryPolicy, is_retryable};
+pub use table_file::{TABLE_FILE_EXTENSION, TABLE_FILE_MAGIC, TABLE_FILE_VERSION};
 pub use transition::{TableGrid, Transition};
 pub use units::{DensityUnit, EnergyUnit, PowerUnit, RateUnit, TemperatureUnit};
 

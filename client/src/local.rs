@@ -7,9 +7,10 @@ use crate::rates::{EvalOptions, RateBuffers, RateLookup, RateQuery};
 use crate::transition::Transition;
 use crate::units::RateUnit;
 use crate::units::check_temperatures;
+use ratewell_proto::digest::table_set_digest;
 use ratewell_proto::pb;
 use ratewell_proto::rule::{LogGrid, OutsidePolicy, RateTable, RateValue, checked_location, write_rows};
-use ratewell_proto::wire::{grid_from_wire, table_from_wire};
+use ratewell_proto::wire::{grid_from_wire, grid_to_wire, table_from_wire, table_to_wire};
 use std::collections::HashMap;
 
 /// All rate tables of one species on one grid, with the stamp of the dataset they came from.
@@ -21,10 +22,13 @@ pub struct LocalTables {
     tables: Vec<RateTable>,
     index: HashMap<Transition, usize>,
     cautions: Vec<String>,
+    digest: String,
 }
 
 impl LocalTables {
-    /// Builds the tables from a FetchTables answer (knots and slopes taken as served).
+    /// Builds the tables from a FetchTables answer (knots and slopes taken as served). The
+    /// table-set digest is recomputed from the tables; an answer that carries a different one
+    /// is refused (the tables were changed on the way).
     pub fn from_wire(response: pb::FetchTablesResponse) -> Result<Self, ClientError> {
         let malformed = |message: String| ClientError::Malformed {
             operation: "FetchTables",
@@ -52,6 +56,13 @@ impl LocalTables {
             }
             tables.push(table);
         }
+        let digest = table_set_digest(&response.species, &grid, &tables);
+        if !response.table_set_digest.is_empty() && !response.table_set_digest.eq_ignore_ascii_case(&digest) {
+            return Err(malformed(format!(
+                "the tables do not match their table-set digest (carried {}, computed {digest})",
+                response.table_set_digest
+            )));
+        }
         Ok(Self {
             stamp,
             species: response.species,
@@ -59,7 +70,26 @@ impl LocalTables {
             tables,
             index,
             cautions: response.cautions,
+            digest,
         })
+    }
+
+    /// The wire form of these tables (as a FetchTables answer, digest included).
+    pub fn to_wire(&self) -> pb::FetchTablesResponse {
+        pb::FetchTablesResponse {
+            stamp: Some(self.stamp.clone()),
+            species: self.species.clone(),
+            grid: Some(grid_to_wire(&self.grid)),
+            tables: self.tables.iter().map(table_to_wire).collect(),
+            cautions: self.cautions.clone(),
+            table_set_digest: self.digest.clone(),
+        }
+    }
+
+    /// Hex blake3 digest of this table set as served ([`ratewell_proto::digest`]): equal
+    /// digests mean equal bits from every evaluation.
+    pub fn digest(&self) -> &str {
+        &self.digest
     }
 
     /// The dataset the tables came from.
@@ -226,7 +256,6 @@ pub(crate) mod tests {
     use crate::units::{RateUnit, TemperatureUnit};
     use ratewell_proto::constants::KELVIN_PER_EV;
     use ratewell_proto::rule::{Direction, TableHeader, flags};
-    use ratewell_proto::wire::{grid_to_wire, table_to_wire};
 
     /// An invented three-level species "X" on a 1e3..1e6 K grid (demo numbers, not real data).
     pub(crate) fn invented_response(content_hash: &str) -> pb::FetchTablesResponse {
@@ -262,6 +291,7 @@ pub(crate) mod tests {
                 mk(3, 2, 6.0, 1.5e4, true, -1.0),
             ],
             cautions: vec!["3-2: approximate".into()],
+            table_set_digest: String::new(),
         }
     }
 

@@ -62,6 +62,7 @@ impl JobError {
                 | ClientError::Timeout { .. }
                 | ClientError::Transport { .. }
                 | ClientError::Rule(_)
+                | ClientError::TableFile { .. }
                 | ClientError::Runtime(_) => 1,
             },
         }

@@ -6,9 +6,11 @@
 //!   so both agree bit for bit.
 //! - [`constants`]: CODATA constants and the rate-coefficient prefactor derived from them.
 //! - [`units`]: the unit conversions applied to served values (shared, so they agree bit for bit).
+//! - [`digest`]: the table-set digest served with every table set and checked by clients.
 //! - [`wire`]: conversions between wire tables and [`rule::RateTable`].
 
 pub mod constants;
+pub mod digest;
 pub mod rule;
 pub mod units;
 pub mod wire;

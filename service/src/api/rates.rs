@@ -46,6 +46,7 @@ impl Rates for RatesHandler {
                     grid: Some(grid_to_wire(&tables.grid)),
                     tables: tables.tables.iter().map(table_to_wire).collect(),
                     cautions: tables.cautions.clone(),
+                    table_set_digest: tables.digest.clone(),
                 })
             })
             .await

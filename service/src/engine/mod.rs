@@ -299,31 +299,17 @@ pub fn unknown_species_error(loaded: &LoadedDataset, species: &str) -> EngineErr
     }
 }
 
-/// blake3 over every default-grid table as served, species in dataset order.
+/// blake3 over the species names and their default-grid table-set digests
+/// ([`ratewell_proto::digest::table_set_digest`]), species in dataset order.
 fn tables_digest(dataset: &Dataset, tables: &HashMap<String, Arc<SpeciesTables>>) -> String {
     let mut hasher = blake3::Hasher::new();
     for species in &dataset.species {
         hasher.update(species.name.as_bytes());
         hasher.update(&[0]);
-        let Some(t) = tables.get(&species.name) else {
-            continue;
-        };
-        for table in &t.tables {
-            let h = table.header();
-            hasher.update(&h.upper.to_le_bytes());
-            hasher.update(&h.lower.to_le_bytes());
-            let numbers = [
-                h.g_lower,
-                h.g_upper,
-                h.excitation_energy_k,
-                h.source_t_min_k,
-                h.source_t_max_k,
-            ];
-            for v in numbers.iter().chain(table.ln_upsilon()).chain(table.slopes()) {
-                hasher.update(&v.to_bits().to_le_bytes());
-            }
-            hasher.update(&[u8::from(h.approximate)]);
+        if let Some(t) = tables.get(&species.name) {
+            hasher.update(t.digest.as_bytes());
         }
+        hasher.update(&[0]);
     }
     hasher.finalize().to_hex().to_string()
 }

@@ -14,6 +14,8 @@ pub struct SpeciesTables {
     pub tables: Vec<RateTable>,
     /// Cautions a user should see with any answer from these tables.
     pub cautions: Vec<String>,
+    /// The table-set digest of these tables as served ([`ratewell_proto::digest`]).
+    pub digest: String,
     index: HashMap<(u32, u32), usize>,
 }
 
@@ -25,11 +27,13 @@ impl SpeciesTables {
             .enumerate()
             .map(|(i, t)| ((t.header().upper, t.header().lower), i))
             .collect();
+        let digest = ratewell_proto::digest::table_set_digest(&species, &grid, &tables);
         Self {
             species,
             grid,
             tables,
             cautions,
+            digest,
             index,
         }
     }

@@ -40,6 +40,7 @@ impl CliError {
                 | ClientError::Timeout { .. }
                 | ClientError::Transport { .. }
                 | ClientError::Rule(_)
+                | ClientError::TableFile { .. }
                 | ClientError::Runtime(_) => 1,
             },
         }
