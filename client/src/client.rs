@@ -2,6 +2,7 @@
 //! idempotent calls, stamp checks on every answer, and the in-process table cache.
 
 use crate::cache::{TableCache, TableKey};
+use crate::cache_dir;
 use crate::config::ClientConfig;
 use crate::dataset::DatasetRef;
 use crate::error::ClientError;
@@ -259,7 +260,8 @@ impl Client {
     }
 
     /// All rate tables of a species for local evaluation, from the in-process cache when this
-    /// (dataset, version, pinned hash, species, grid) was fetched before.
+    /// (dataset, version, pinned hash, species, grid) was fetched before, else from the shared
+    /// cache folder when one is configured ([`ClientConfig::cache_dir`]), else from the server.
     ///
     /// ```no_run
     /// # async fn demo(client: &ratewell_client::Client) -> Result<(), ratewell_client::ClientError> {
@@ -281,9 +283,21 @@ impl Client {
             species: species.to_string(),
             grid: grid.map(TableGrid::key),
         };
+        let folder = self.inner.config.cache_dir.clone();
+        let wait = self.inner.config.retry.deadline + self.inner.config.call_timeout;
         self.inner
             .cache
-            .get_or_fetch(key, || self.fetch_tables_uncached(dataset, species, grid))
+            .get_or_fetch(key.clone(), || async move {
+                match folder {
+                    Some(dir) => {
+                        cache_dir::read_or_fill(&dir, &key, dataset, wait, || {
+                            self.fetch_tables_uncached(dataset, species, grid)
+                        })
+                        .await
+                    }
+                    None => self.fetch_tables_uncached(dataset, species, grid).await,
+                }
+            })
             .await
     }
 

@@ -3,6 +3,7 @@
 use crate::dataset::DatasetRef;
 use crate::error::ClientError;
 use crate::retry::RetryPolicy;
+use std::path::PathBuf;
 use std::time::Duration;
 
 /// The address tried when none is given.
@@ -40,6 +41,13 @@ pub struct ClientConfig {
     /// Temperatures per message in [`crate::Client::lookup_rates_stream`] when the caller
     /// passes 0.
     pub stream_temperatures_per_message: usize,
+    /// A folder shared by the processes of a node (or a job): [`crate::Client::fetch_tables`]
+    /// reads a species' table file from it when present, and otherwise the first process
+    /// fetches and writes it while the others wait on a lock file and then read it. Entries are
+    /// named by what was asked (dataset id, version, pinned hash, species, grid) and reused as
+    /// they are: pin the content hash, or use one folder per job, so an unpinned request does
+    /// not keep an older version across jobs. `None`: no folder.
+    pub cache_dir: Option<PathBuf>,
 }
 
 impl ClientConfig {
@@ -55,6 +63,7 @@ impl ClientConfig {
             keepalive_interval: Some(DEFAULT_KEEPALIVE_INTERVAL),
             dataset: None,
             stream_temperatures_per_message: 4096,
+            cache_dir: None,
         }
     }
 
@@ -73,6 +82,12 @@ impl ClientConfig {
     /// Another per-attempt time budget.
     pub fn with_call_timeout(mut self, timeout: Duration) -> Self {
         self.call_timeout = timeout;
+        self
+    }
+
+    /// A shared table-file folder (see [`ClientConfig::cache_dir`]).
+    pub fn with_cache_dir(mut self, dir: impl Into<PathBuf>) -> Self {
+        self.cache_dir = Some(dir.into());
         self
     }
 
@@ -113,6 +128,22 @@ impl ClientConfig {
                 "must be >= 1",
             ));
         }
+        if let Some(dir) = &self.cache_dir {
+            if dir.as_os_str().is_empty() {
+                return Err(ClientError::invalid(
+                    "cache_dir",
+                    "\"\" (empty)",
+                    "a folder path, or no cache folder",
+                ));
+            }
+            if dir.exists() && !dir.is_dir() {
+                return Err(ClientError::invalid(
+                    "cache_dir",
+                    dir.display(),
+                    "must be a folder (this path is a file)",
+                ));
+            }
+        }
         self.retry.validate()
     }
 }
@@ -137,7 +168,7 @@ mod tests {
             c.validate().unwrap_err().to_string(),
             "call_timeout = 0 s: must be > 0"
         );
-        // 64 MiB, the size the server is configured with (CONVENTIONS.md, limits).
+        // 64 MiB, the size the server is configured with (the server's default --max-message-bytes).
         assert_eq!(ClientConfig::default().max_message_bytes, 67_108_864);
     }
 }

@@ -37,6 +37,7 @@
 
 pub mod blocking;
 mod cache;
+mod cache_dir;
 mod client;
 mod compare;
 mod config;
