@@ -345,6 +345,7 @@ impl Rates for Fake {
             grid: Some(grid_to_wire(&self.grid)),
             tables: self.tables.iter().map(table_to_wire).collect(),
             cautions: vec!["3-2: approximate collision data".into()],
+            table_set_digest: ratewell_proto::digest::table_set_digest("X", &self.grid, &self.tables),
         }))
     }
 

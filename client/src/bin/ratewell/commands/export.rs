@@ -169,6 +169,7 @@ mod tests {
                 max_interpolation_error: 0.0,
             }],
             cautions: vec![],
+            table_set_digest: String::new(),
         })
         .unwrap()
     }
