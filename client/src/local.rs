@@ -9,7 +9,9 @@ use crate::units::RateUnit;
 use crate::units::check_temperatures;
 use ratewell_proto::digest::table_set_digest;
 use ratewell_proto::pb;
-use ratewell_proto::rule::{LogGrid, OutsidePolicy, RateTable, RateValue, checked_location, write_rows};
+use ratewell_proto::rule::{
+    Location, LogGrid, OutsidePolicy, RateTable, RateValue, checked_location, write_rows,
+};
 use ratewell_proto::wire::{grid_from_wire, grid_to_wire, table_from_wire, table_to_wire};
 use std::collections::HashMap;
 
@@ -180,25 +182,13 @@ impl LocalTables {
         options: EvalOptions,
         out: &mut RateBuffers,
     ) -> Result<(), ClientError> {
-        check_temperatures(temperatures, options.temperature_unit)?;
-        out.locations.clear();
-        for (j, &t) in temperatures.iter().enumerate() {
-            let t_k = options.temperature_unit.to_kelvin(t);
-            out.locations
-                .push(checked_location(&self.grid, j, t_k, options.outside)?);
-        }
-        out.table_indices.clear();
-        if transitions.is_empty() {
-            out.table_indices.extend(0..self.tables.len());
+        let rows = if transitions.is_empty() {
+            self.tables.len()
         } else {
-            for &t in transitions {
-                let i = *self.index.get(&t).ok_or_else(|| self.unknown(t))?;
-                out.table_indices.push(i);
-            }
-        }
+            transitions.len()
+        };
         let n = temperatures.len();
-        let direction = options.direction;
-        out.prepare(out.table_indices.len() * n, direction);
+        out.prepare(rows * n, options.direction);
         out.temperature_count = n;
         let RateBuffers {
             excitation,
@@ -208,6 +198,80 @@ impl LocalTables {
             table_indices,
             ..
         } = out;
+        self.evaluate_with(
+            transitions,
+            temperatures,
+            options,
+            excitation,
+            deexcitation,
+            flags,
+            locations,
+            table_indices,
+        )
+    }
+
+    /// As [`Self::evaluate_into`], into caller-owned slices (for callers that own their
+    /// memory, such as other languages): each wanted direction's slice and `flags` hold
+    /// exactly `rows * temperatures.len()` values (rows: `transitions.len()`, or every table
+    /// when empty); an unwanted direction's slice may be empty. Safe to call from many threads
+    /// at once on one table set.
+    pub fn evaluate_to_slices(
+        &self,
+        transitions: &[Transition],
+        temperatures: &[f64],
+        options: EvalOptions,
+        excitation: &mut [f64],
+        deexcitation: &mut [f64],
+        flags: &mut [u32],
+    ) -> Result<(), ClientError> {
+        thread_local! {
+            static SCRATCH: std::cell::RefCell<(Vec<Location>, Vec<usize>)> =
+                const { std::cell::RefCell::new((Vec::new(), Vec::new())) };
+        }
+        SCRATCH.with(|scratch| {
+            let mut scratch = scratch.borrow_mut();
+            let (locations, table_indices) = &mut *scratch;
+            self.evaluate_with(
+                transitions,
+                temperatures,
+                options,
+                excitation,
+                deexcitation,
+                flags,
+                locations,
+                table_indices,
+            )
+        })
+    }
+
+    #[allow(clippy::too_many_arguments)]
+    fn evaluate_with(
+        &self,
+        transitions: &[Transition],
+        temperatures: &[f64],
+        options: EvalOptions,
+        excitation: &mut [f64],
+        deexcitation: &mut [f64],
+        flags: &mut [u32],
+        locations: &mut Vec<Location>,
+        table_indices: &mut Vec<usize>,
+    ) -> Result<(), ClientError> {
+        check_temperatures(temperatures, options.temperature_unit)?;
+        locations.clear();
+        for (j, &t) in temperatures.iter().enumerate() {
+            let t_k = options.temperature_unit.to_kelvin(t);
+            locations.push(checked_location(&self.grid, j, t_k, options.outside)?);
+        }
+        table_indices.clear();
+        if transitions.is_empty() {
+            table_indices.extend(0..self.tables.len());
+        } else {
+            for &t in transitions {
+                let i = *self.index.get(&t).ok_or_else(|| self.unknown(t))?;
+                table_indices.push(i);
+            }
+        }
+        let direction = options.direction;
         let rows: Vec<&RateTable> = table_indices.iter().map(|&ti| &self.tables[ti]).collect();
         write_rows(&rows, locations, direction, excitation, deexcitation, flags)?;
         let unit = options.rate_unit;
@@ -326,6 +390,30 @@ pub(crate) mod tests {
                 assert_eq!(s, v);
             }
         }
+    }
+
+    #[test]
+    fn caller_owned_slices_get_the_same_bits_and_wrong_lengths_are_refused() {
+        let t = tables();
+        let temps = temperatures();
+        let options = EvalOptions {
+            rate_unit: RateUnit::CubicMetrePerSecond,
+            ..EvalOptions::default()
+        };
+        let mut out = RateBuffers::default();
+        t.evaluate_into(&[], &temps, options, &mut out).unwrap();
+        let n = 3 * temps.len();
+        let (mut e, mut d, mut f) = (vec![0.0; n], vec![0.0; n], vec![0u32; n]);
+        t.evaluate_to_slices(&[], &temps, options, &mut e, &mut d, &mut f)
+            .unwrap();
+        let bits = |v: &[f64]| v.iter().map(|x| x.to_bits()).collect::<Vec<_>>();
+        assert_eq!(bits(&e), bits(&out.excitation));
+        assert_eq!(bits(&d), bits(&out.deexcitation));
+        assert_eq!(f, out.flags);
+        let err = t
+            .evaluate_to_slices(&[], &temps, options, &mut e[..n - 1], &mut d, &mut f)
+            .unwrap_err();
+        assert!(matches!(err, ClientError::Rule(_)), "{err}");
     }
 
     #[test]
