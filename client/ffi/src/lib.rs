@@ -25,9 +25,9 @@ mod tables;
 
 pub use connection::{RatewellConnection, ratewell_close, ratewell_fetch_tables, ratewell_open};
 pub use populations::{
-    RatewellPopulations, ratewell_populations_fractions, ratewell_populations_level_count,
-    ratewell_populations_point_count, ratewell_populations_radiated_power, ratewell_populations_flags,
-    ratewell_populations_free, ratewell_populations_stamp, ratewell_solve_populations,
+    RatewellPopulations, ratewell_populations_flags, ratewell_populations_fractions,
+    ratewell_populations_free, ratewell_populations_level_count, ratewell_populations_point_count,
+    ratewell_populations_radiated_power, ratewell_populations_stamp, ratewell_solve_populations,
 };
 pub use status::*;
 pub use tables::{

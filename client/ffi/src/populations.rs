@@ -95,7 +95,9 @@ pub unsafe extern "C" fn ratewell_populations_free(populations: *mut RatewellPop
 #[unsafe(no_mangle)]
 pub unsafe extern "C" fn ratewell_populations_point_count(populations: *const RatewellPopulations) -> usize {
     // SAFETY: the caller's promise.
-    guard_value(0, || unsafe { answer_ref(populations) }.map_or(0, |a| a.points.len()))
+    guard_value(0, || {
+        unsafe { answer_ref(populations) }.map_or(0, |a| a.points.len())
+    })
 }
 
 /// Number of levels of the species; 0 for NULL.
@@ -114,7 +116,11 @@ fn check_length(argument: &str, got: usize, expected: usize, what: &str) -> Resu
     if got == expected {
         Ok(())
     } else {
-        Err(Failure::invalid(argument, got, &format!("must equal {what} = {expected}")))
+        Err(Failure::invalid(
+            argument,
+            got,
+            &format!("must equal {what} = {expected}"),
+        ))
     }
 }
 

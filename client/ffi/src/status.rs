@@ -164,7 +164,11 @@ pub unsafe extern "C" fn ratewell_last_error(buffer: *mut c_char, length: usize)
 }
 
 /// Which part of a dataset stamp to read.
-pub(crate) fn stamp_field<'a>(stamp: &'a pb::DatasetStamp, digest: &'a str, field: i32) -> Result<&'a str, Failure> {
+pub(crate) fn stamp_field<'a>(
+    stamp: &'a pb::DatasetStamp,
+    digest: &'a str,
+    field: i32,
+) -> Result<&'a str, Failure> {
     Ok(match field {
         RATEWELL_STAMP_ID => &stamp.id,
         RATEWELL_STAMP_VERSION => &stamp.version,

@@ -34,7 +34,12 @@ pub(crate) unsafe fn optional<'a>(argument: &str, text: *const c_char) -> Result
 ///
 /// # Safety
 /// `buffer` points to `length` writable bytes (checked for NULL here).
-pub(crate) unsafe fn copy_out(argument: &str, text: &str, buffer: *mut c_char, length: usize) -> Result<(), Failure> {
+pub(crate) unsafe fn copy_out(
+    argument: &str,
+    text: &str,
+    buffer: *mut c_char,
+    length: usize,
+) -> Result<(), Failure> {
     if buffer.is_null() {
         return Err(Failure::null(argument));
     }
@@ -42,7 +47,9 @@ pub(crate) unsafe fn copy_out(argument: &str, text: &str, buffer: *mut c_char, l
     if length < needed {
         return Err(Failure {
             status: RATEWELL_BUFFER_TOO_SMALL,
-            message: format!("{argument}: buffer of {length} bytes is too small, {needed} needed (NUL included)"),
+            message: format!(
+                "{argument}: buffer of {length} bytes is too small, {needed} needed (NUL included)"
+            ),
         });
     }
     // SAFETY: `length >= needed` writable bytes at `buffer` by the caller's promise.

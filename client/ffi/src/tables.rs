@@ -46,7 +46,9 @@ pub unsafe extern "C" fn ratewell_tables_free(tables: *mut RatewellTables) {
 #[unsafe(no_mangle)]
 pub unsafe extern "C" fn ratewell_tables_count(tables: *const RatewellTables) -> usize {
     // SAFETY: the caller's promise.
-    guard_value(0, || unsafe { tables.as_ref() }.map_or(0, |t| t.tables.tables().len()))
+    guard_value(0, || {
+        unsafe { tables.as_ref() }.map_or(0, |t| t.tables.tables().len())
+    })
 }
 
 /// The levels (1-based) of table `index` (0-based, in the server's order).
@@ -65,7 +67,11 @@ pub unsafe extern "C" fn ratewell_tables_transition(
         let t = unsafe { tables_ref(tables) }?;
         let all = t.tables.tables();
         let table = all.get(index).ok_or_else(|| {
-            Failure::invalid("index", index, &format!("must be below the table count {}", all.len()))
+            Failure::invalid(
+                "index",
+                index,
+                &format!("must be below the table count {}", all.len()),
+            )
         })?;
         if upper.is_null() {
             return Err(Failure::null("upper"));
@@ -210,7 +216,11 @@ pub unsafe extern "C" fn ratewell_tables_evaluate(
             transition_count
         };
         let expected = rows.checked_mul(temperature_count).ok_or_else(|| {
-            Failure::invalid("temperature_count", temperature_count, "too many values to address")
+            Failure::invalid(
+                "temperature_count",
+                temperature_count,
+                "too many values to address",
+            )
         })?;
         if output_length != expected {
             return Err(Failure::invalid(
@@ -232,7 +242,8 @@ pub unsafe extern "C" fn ratewell_tables_evaluate(
                 slice_mut(flags, output_length),
             )
         };
-        t.tables.evaluate_to_slices(&transitions, temps, options, e, d, f)?;
+        t.tables
+            .evaluate_to_slices(&transitions, temps, options, e, d, f)?;
         Ok(())
     })
 }
