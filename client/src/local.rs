@@ -10,7 +10,7 @@ use crate::units::check_temperatures;
 use ratewell_proto::digest::table_set_digest;
 use ratewell_proto::pb;
 use ratewell_proto::rule::{
-    Location, LogGrid, OutsidePolicy, RateTable, RateValue, checked_location, write_rows,
+    Location, LogGrid, OutsidePolicy, RateTable, RateValue, checked_location, write_rows, write_rows_parallel,
 };
 use ratewell_proto::wire::{grid_from_wire, grid_to_wire, table_from_wire, table_to_wire};
 use std::collections::HashMap;
@@ -273,7 +273,11 @@ impl LocalTables {
         }
         let direction = options.direction;
         let rows: Vec<&RateTable> = table_indices.iter().map(|&ti| &self.tables[ti]).collect();
-        write_rows(&rows, locations, direction, excitation, deexcitation, flags)?;
+        if options.parallel {
+            write_rows_parallel(&rows, locations, direction, excitation, deexcitation, flags)?;
+        } else {
+            write_rows(&rows, locations, direction, excitation, deexcitation, flags)?;
+        }
         let unit = options.rate_unit;
         if unit != RateUnit::CubicCentimetrePerSecond {
             for v in excitation.iter_mut().chain(deexcitation.iter_mut()) {
@@ -416,6 +420,26 @@ pub(crate) mod tests {
         assert!(matches!(err, ClientError::Rule(_)), "{err}");
     }
 
+    // Opt-in parallelism changes only which thread computes a row (common practice, no
+    // source): 3 tables x 30,000 temperatures is above the 65,536-value threshold.
+    #[test]
+    fn the_opt_in_parallel_path_gives_the_same_bits() {
+        let t = tables();
+        let temps: Vec<f64> = (0..30_000).map(|i| 1.0e3 * 10f64.powf(i as f64 * 1e-4)).collect();
+        let (mut one, mut many) = (RateBuffers::default(), RateBuffers::default());
+        t.evaluate_into(&[], &temps, EvalOptions::default(), &mut one)
+            .unwrap();
+        let parallel = EvalOptions {
+            parallel: true,
+            ..EvalOptions::default()
+        };
+        t.evaluate_into(&[], &temps, parallel, &mut many).unwrap();
+        let bits = |v: &[f64]| v.iter().map(|x| x.to_bits()).collect::<Vec<_>>();
+        assert_eq!(bits(&one.excitation), bits(&many.excitation));
+        assert_eq!(bits(&one.deexcitation), bits(&many.deexcitation));
+        assert_eq!(one.flags, many.flags);
+    }
+
     #[test]
     fn units_convert_in_and_out() {
         let t = tables();
@@ -425,6 +449,7 @@ pub(crate) mod tests {
             rate_unit: RateUnit::CubicMetrePerSecond,
             direction: Direction::Deexcitation,
             outside: OutsidePolicy::Refuse,
+            parallel: false,
         };
         let mut out = RateBuffers::default();
         t.evaluate_into(&[], &temps_ev, options, &mut out).unwrap();

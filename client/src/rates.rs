@@ -20,6 +20,10 @@ pub struct EvalOptions {
     pub direction: Direction,
     /// Refuse or extrapolate (flagged) outside the grid.
     pub outside: OutsidePolicy,
+    /// Spread batches of more than 65,536 values over rayon's global thread pool (same bits).
+    /// Off by default: the library then runs on the calling thread only and starts no threads,
+    /// as an MPI rank or an OpenMP loop expects.
+    pub parallel: bool,
 }
 
 impl Default for EvalOptions {
@@ -29,6 +33,7 @@ impl Default for EvalOptions {
             rate_unit: RateUnit::CubicCentimetrePerSecond,
             direction: Direction::Both,
             outside: OutsidePolicy::Refuse,
+            parallel: false,
         }
     }
 }

@@ -31,6 +31,7 @@ async fn local_and_remote_answers_agree_bit_for_bit() {
         rate_unit: RateUnit::CubicMetrePerSecond,
         direction: Direction::Both,
         outside: OutsidePolicy::Extrapolate,
+        parallel: false,
     };
     let query = RateQuery::new("X", temperatures_ev())
         .with_transitions(vec!["3-1".parse().unwrap(), "2-1".parse().unwrap()])

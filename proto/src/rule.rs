@@ -730,12 +730,55 @@ impl KernelWidth {
 const PARALLEL_MIN_VALUES: usize = 1 << 16;
 
 /// Evaluates many tables of one grid at the same located temperatures into transition-major
-/// buffers: row `r` (slots `r * n .. (r + 1) * n`, `n = locations.len()`) holds `tables[r]`.
-/// Each row has the same bits as [`RateTable::write_located`] on its own; batches of more than
-/// [`PARALLEL_MIN_VALUES`] values are spread over the rayon thread pool by rows, which changes
-/// only which thread computes a row. Buffer lengths are `tables.len() * n` for each wanted
-/// direction (an unwanted one may be empty) and for `flags_out`.
+/// buffers: row `r` (slots `r * n .. (r + 1) * n`, `n = locations.len()`) holds `tables[r]`,
+/// with the same bits as [`RateTable::write_located`] on its own. Runs on the calling thread
+/// only (no thread pool: a library inside an MPI rank must not start threads it was not asked
+/// for); [`write_rows_parallel`] spreads large batches over rayon's pool with the same bits.
+/// Buffer lengths are `tables.len() * n` for each wanted direction (an unwanted one may be
+/// empty) and for `flags_out`.
 pub fn write_rows(
+    tables: &[&RateTable],
+    locations: &[Location],
+    direction: Direction,
+    excitation_cm3_s: &mut [f64],
+    deexcitation_cm3_s: &mut [f64],
+    flags_out: &mut [u32],
+) -> Result<(), RuleError> {
+    write_rows_on(
+        false,
+        tables,
+        locations,
+        direction,
+        excitation_cm3_s,
+        deexcitation_cm3_s,
+        flags_out,
+    )
+}
+
+/// As [`write_rows`], but batches of more than [`PARALLEL_MIN_VALUES`] values are spread over
+/// rayon's global thread pool by rows (opt-in: the server uses it, a client only when asked).
+/// Only which thread computes a row changes, so the bits are those of [`write_rows`].
+pub fn write_rows_parallel(
+    tables: &[&RateTable],
+    locations: &[Location],
+    direction: Direction,
+    excitation_cm3_s: &mut [f64],
+    deexcitation_cm3_s: &mut [f64],
+    flags_out: &mut [u32],
+) -> Result<(), RuleError> {
+    write_rows_on(
+        true,
+        tables,
+        locations,
+        direction,
+        excitation_cm3_s,
+        deexcitation_cm3_s,
+        flags_out,
+    )
+}
+
+fn write_rows_on(
+    parallel: bool,
     tables: &[&RateTable],
     locations: &[Location],
     direction: Direction,
@@ -754,8 +797,8 @@ pub fn write_rows(
     let count = tables.len();
     let exc_rows = row_slices(excitation_cm3_s, n, count, direction.wants_excitation());
     let deexc_rows = row_slices(deexcitation_cm3_s, n, count, direction.wants_deexcitation());
-    if total < PARALLEL_MIN_VALUES {
-        // On the calling thread: entering the pool would cost a thread hand-off.
+    if !parallel || total < PARALLEL_MIN_VALUES {
+        // On the calling thread (asked for, or a hand-off to the pool would cost more).
         for (((t, e), d), f) in tables
             .iter()
             .zip(exc_rows)
@@ -1603,6 +1646,16 @@ mod tests {
                     vec![0u32; total],
                 );
                 write_rows(&refs[..rows], &locs, dir, &mut e, &mut d, &mut f).unwrap();
+                // The pool path (used above PARALLEL_MIN_VALUES values: the 300 x 256 case)
+                // gives the same bits as the calling-thread path.
+                let (mut ep, mut dp, mut fp) = (e.clone(), d.clone(), f.clone());
+                ep.fill(0.0);
+                dp.fill(0.0);
+                fp.fill(0);
+                write_rows_parallel(&refs[..rows], &locs, dir, &mut ep, &mut dp, &mut fp).unwrap();
+                assert_eq!(bits(&ep), bits(&e));
+                assert_eq!(bits(&dp), bits(&d));
+                assert_eq!(fp, f);
                 for (r, t) in refs[..rows].iter().enumerate() {
                     let (mut e1, mut d1, mut f1) = (vec![0.0; n], vec![0.0; n], vec![0u32; n]);
                     t.write_located(&locs, dir, &mut e1, &mut d1, &mut f1).unwrap();

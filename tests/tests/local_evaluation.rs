@@ -140,6 +140,7 @@ async fn local_and_remote_agree_in_every_unit_and_when_extrapolating() {
         rate_unit: RateUnit::CubicMetrePerSecond,
         direction: ratewell_client::Direction::Both,
         outside: OutsidePolicy::Extrapolate,
+        parallel: false,
     };
     // Every 37th table, in reverse order: a subset in an order of our own.
     let transitions: Vec<Transition> = tables.transitions().into_iter().rev().step_by(37).collect();

@@ -3,7 +3,9 @@
 
 use super::units::{RateUnit, TemperatureUnit};
 use super::{Engine, EngineError, GridSpec, Selector, Stamp};
-use ratewell_proto::rule::{Direction, OutsidePolicy, RateTable, RuleError, checked_location, write_rows};
+use ratewell_proto::rule::{
+    Direction, OutsidePolicy, RateTable, RuleError, checked_location, write_rows_parallel,
+};
 
 /// A batched lookup.
 #[derive(Debug, Clone)]
@@ -126,7 +128,7 @@ impl Engine {
         let mut deexcitation = sized(dir.wants_deexcitation());
         let mut flags = vec![0u32; total];
         let rows: Vec<&RateTable> = positions.iter().map(|&p| &tables.tables[p]).collect();
-        write_rows(
+        write_rows_parallel(
             &rows,
             &locations,
             dir,

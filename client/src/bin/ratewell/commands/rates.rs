@@ -40,6 +40,8 @@ pub(crate) async fn run(ctx: &Context, a: &RatesArgs) -> Result<String, CliError
         } else {
             OutsidePolicy::Refuse
         },
+        // A command-line run owns its process: large local evaluations may use every core.
+        parallel: true,
     };
     let query = RateQuery::new(a.species.clone(), a.temperatures.clone())
         .with_transitions(a.transitions.clone())
