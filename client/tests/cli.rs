@@ -46,7 +46,7 @@ fn rates_show_the_stamp_and_agree_locally_and_remotely() {
     );
     assert!(local.status.success(), "{}", text(&local.stderr));
     let body = |s: &str| s.lines().skip(2).map(str::to_string).collect::<Vec<_>>();
-    // Same rule on both sides (DESIGN.md): the printed tables are identical.
+    // Same rule on both sides (the contract): the printed tables are identical.
     let local_out = text(&local.stdout);
     assert_eq!(body(&out).len(), body(&local_out).len());
     assert_eq!(body(&out)[..7], body(&local_out)[..7]);
@@ -194,4 +194,29 @@ fn a_dead_server_is_a_clear_failure() {
     let out = ratewell(&common::dead_address(), &["--timeout", "2", "health"]);
     assert_eq!(out.status.code(), Some(1));
     assert!(text(&out.stderr).contains("not serving"), "{}", text(&out.stderr));
+}
+
+#[test]
+fn save_tables_writes_a_table_file_that_loads_with_no_server() {
+    let server = start_in_background(HASH_A);
+    let dir = std::env::temp_dir().join(format!("ratewell-cli-save-{}", std::process::id()));
+    let out = ratewell(
+        &server.url(),
+        &["save-tables", "X", "--output-dir", dir.to_str().unwrap()],
+    );
+    assert!(out.status.success(), "{}", text(&out.stderr));
+    let printed = text(&out.stdout);
+    assert!(
+        printed.contains(&format!("content hash     {HASH_A}")),
+        "{printed}"
+    );
+    let path = printed
+        .lines()
+        .next()
+        .and_then(|l| l.split(" to ").nth(1))
+        .expect("the first line names the file");
+    let loaded = ratewell_client::LocalTables::load(std::path::Path::new(path)).expect("loads");
+    assert_eq!(loaded.stamp().content_hash, HASH_A);
+    assert!(printed.contains(loaded.digest()), "{printed}");
+    std::fs::remove_dir_all(&dir).unwrap();
 }

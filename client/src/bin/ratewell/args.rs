@@ -67,6 +67,9 @@ pub(crate) enum Command {
     Compare(CompareArgs),
     /// Write a species' tables (T, Upsilon, q_ul, q_lu per transition) as CSV or JSON.
     Export(ExportArgs),
+    /// Fetch a species' tables and write them as a table file (for nodes with no route to the
+    /// server: every client language loads it with no server, digest checked).
+    SaveTables(SaveTablesArgs),
     /// Serving status of every server address given.
     Health,
 }
@@ -201,6 +204,16 @@ pub(crate) struct ExportArgs {
     /// Write to this file instead of standard output.
     #[arg(long, value_name = "FILE")]
     pub(crate) output: Option<PathBuf>,
+}
+
+/// `save-tables` arguments.
+#[derive(Debug, Args)]
+pub(crate) struct SaveTablesArgs {
+    /// Species name.
+    pub(crate) species: String,
+    /// Folder to write the table file into (created if missing).
+    #[arg(long, value_name = "DIR", default_value = ".")]
+    pub(crate) output_dir: PathBuf,
 }
 
 /// Seconds as a positive decimal number, at most an hour.

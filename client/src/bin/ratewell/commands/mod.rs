@@ -6,6 +6,7 @@ mod export;
 mod health;
 mod populations;
 mod rates;
+mod table_file;
 
 use crate::args::{Cli, Command};
 use crate::context::Context;
@@ -21,6 +22,7 @@ pub(crate) async fn run(cli: &Cli) -> Result<String, CliError> {
         Command::Populations(a) => populations::run(&ctx, a).await,
         Command::Compare(a) => compare::run(&ctx, a).await,
         Command::Export(a) => export::run(&ctx, a).await,
+        Command::SaveTables(a) => table_file::run(&ctx, a).await,
         Command::Health => health::run(&ctx).await,
     }
 }
