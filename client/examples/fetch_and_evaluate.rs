@@ -3,7 +3,7 @@
 //!
 //! Run against a server (address from RATEWELL_SERVER, default http://127.0.0.1:50051):
 //!
-//!     cargo run -p ratewell-client --example fetch_and_evaluate -- demo X
+//!     cargo run -p ratewell-client --example fetch_and_evaluate -- demo "Mk III"
 //!
 //! Arguments: dataset id, species, optional pinned content hash.
 
@@ -16,7 +16,7 @@ use ratewell_client::{
 async fn main() -> Result<(), ClientError> {
     let mut args = std::env::args().skip(1);
     let id = args.next().unwrap_or_else(|| "demo".into());
-    let species = args.next().unwrap_or_else(|| "X".into());
+    let species = args.next().unwrap_or_else(|| "Mk III".into());
     let mut dataset = DatasetRef::new(id)?;
     if let Some(hash) = args.next() {
         dataset = dataset.pinned(&hash)?;

@@ -70,6 +70,11 @@ pub use table_file::{TABLE_FILE_EXTENSION, TABLE_FILE_MAGIC, TABLE_FILE_VERSION}
 pub use transition::{TableGrid, Transition};
 pub use units::{DensityUnit, EnergyUnit, PowerUnit, RateUnit, TemperatureUnit};
 
+// The README's Rust snippets compile (and run) as doc-tests of this crate.
+#[cfg(doctest)]
+#[doc = include_str!("../../README.md")]
+struct ReadmeDoctests;
+
 /// The wire contract (generated messages), for the answers returned as wire types.
 pub use ratewell_proto::pb;
 /// The evaluation rule's types used in this API.
