@@ -66,7 +66,9 @@ fn table_file(c: &mut Criterion) {
     );
     let mut group = c.benchmark_group("table_file_300_levels_1_thread");
     group.sample_size(10);
-    group.bench_function("load", |b| b.iter(|| black_box(LocalTables::load(&path).unwrap())));
+    group.bench_function("load", |b| {
+        b.iter(|| black_box(LocalTables::load(&path).unwrap()))
+    });
     group.bench_function("save", |b| b.iter(|| black_box(tables.save(&dir).unwrap())));
     group.finish();
     std::fs::remove_dir_all(&dir).unwrap();
