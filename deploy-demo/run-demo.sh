@@ -75,7 +75,7 @@ say "building ratewell-server, the ratewell CLI and ratewell-demo-job ($PROFILE)
 cd "$ROOT"
 cargo build "${PROFILE_FLAG[@]}" \
   -p ratewell-service --bin ratewell-server \
-  -p ratewell-client --bin ratewell \
+  -p ratewell-cli --bin ratewell \
   -p ratewell-demo-job --bin ratewell-demo-job
 TARGET_DIR="$(cargo metadata --format-version 1 --no-deps | sed -n 's/.*"target_directory":"\([^"]*\)".*/\1/p')"
 BIN="${TARGET_DIR:-$ROOT/target}/$PROFILE"

@@ -133,6 +133,26 @@ impl ClientError {
         }
     }
 
+    /// The process exit code that programs built on this library use for this error (the
+    /// `ratewell` tool and the deploy demo): 2 for a bad argument or unknown transition, 3 for
+    /// a dataset hash, pin or stamp mismatch, 1 for everything else (server, connection,
+    /// timeout, table file).
+    pub fn exit_code(&self) -> u8 {
+        match self {
+            ClientError::InvalidArgument { .. } | ClientError::UnknownTransition { .. } => 2,
+            ClientError::HashMismatch { .. }
+            | ClientError::PinRefused { .. }
+            | ClientError::StampMismatch { .. } => 3,
+            ClientError::Status { .. }
+            | ClientError::Malformed { .. }
+            | ClientError::Timeout { .. }
+            | ClientError::Transport { .. }
+            | ClientError::Rule(_)
+            | ClientError::TableFile { .. }
+            | ClientError::Runtime(_) => 1,
+        }
+    }
+
     /// A status from a call, kept with the call's name.
     pub(crate) fn from_status(operation: &'static str, endpoint: &str, status: &tonic::Status) -> Self {
         ClientError::Status {

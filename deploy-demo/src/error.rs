@@ -52,19 +52,7 @@ impl JobError {
         match self {
             JobError::Argument { .. } => 2,
             JobError::Answer { .. } | JobError::File { .. } => 1,
-            JobError::Client(e) => match e {
-                ClientError::InvalidArgument { .. } | ClientError::UnknownTransition { .. } => 2,
-                ClientError::HashMismatch { .. }
-                | ClientError::PinRefused { .. }
-                | ClientError::StampMismatch { .. } => 3,
-                ClientError::Status { .. }
-                | ClientError::Malformed { .. }
-                | ClientError::Timeout { .. }
-                | ClientError::Transport { .. }
-                | ClientError::Rule(_)
-                | ClientError::TableFile { .. }
-                | ClientError::Runtime(_) => 1,
-            },
+            JobError::Client(e) => e.exit_code(),
         }
     }
 }

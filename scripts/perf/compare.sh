@@ -5,7 +5,7 @@
 #
 # 1. makes a throwaway Python virtual environment with numpy and scipy (deleted afterwards);
 # 2. builds the release binaries: ratewell-server, ratewell-bench-core (service side) and
-#    ratewell-bench (client side, `--features bench`);
+#    ratewell-bench (client side, crate client/bench);
 # 3. ratewell-bench-core writes the INVENTED benchmark datasets, times table precompute for
 #    300 levels / 44,850 transitions and population solves for N = 5, 20, 50, 200;
 # 4. ratewell-bench starts the server as a child process on a loopback port with the
@@ -43,7 +43,7 @@ python3 -m venv "$venv"
 
 echo "== release build =="
 cargo build --release --locked -p ratewell-service --bin ratewell-server --bin ratewell-bench-core
-cargo build --release --locked -p ratewell-client --features bench --bin ratewell-bench
+cargo build --release --locked -p ratewell-bench --bin ratewell-bench
 bin="$(cargo metadata --format-version 1 --no-deps | "$venv/bin/python" -c 'import json,sys; print(json.load(sys.stdin)["target_directory"])')/release"
 
 load="$(cut -d' ' -f1 /proc/loadavg)"

@@ -30,19 +30,7 @@ impl CliError {
         match self {
             CliError::Usage(_) => 2,
             CliError::Io { .. } | CliError::Failed(_) => 1,
-            CliError::Client(e) => match e {
-                ClientError::InvalidArgument { .. } | ClientError::UnknownTransition { .. } => 2,
-                ClientError::HashMismatch { .. }
-                | ClientError::PinRefused { .. }
-                | ClientError::StampMismatch { .. } => 3,
-                ClientError::Status { .. }
-                | ClientError::Malformed { .. }
-                | ClientError::Timeout { .. }
-                | ClientError::Transport { .. }
-                | ClientError::Rule(_)
-                | ClientError::TableFile { .. }
-                | ClientError::Runtime(_) => 1,
-            },
+            CliError::Client(e) => e.exit_code(),
         }
     }
 

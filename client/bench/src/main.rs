@@ -10,11 +10,10 @@
 //!   `python.json` (numpy / scipy baselines), prints every ratio with its target and PASS or
 //!   FALL SHORT, and writes `results.json`, `results.md` and the plot `performance.svg`.
 
-#[path = "ratewell-bench/measure.rs"]
 mod measure;
-#[path = "ratewell-bench/plot.rs"]
+
 mod plot;
-#[path = "ratewell-bench/report.rs"]
+
 mod report;
 
 use clap::{Parser, Subcommand};

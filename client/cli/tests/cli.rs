@@ -1,5 +1,6 @@
 //! The `ratewell` command-line tool run as a process against the in-test fake server.
 
+#[path = "../../tests/common/mod.rs"]
 mod common;
 
 use common::{HASH_A, HASH_B, start_in_background};
