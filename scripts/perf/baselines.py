@@ -38,14 +38,14 @@ def load_f64(path):
     return np.fromfile(path, dtype="<f8")
 
 
-def evaluation(work, reps):
+def knots_for_interp(work):
+    """The fetched tables' knots as ln q_ul against log10 T, per table (written by ratewell-bench)."""
     ev = os.path.join(work, "eval")
     with open(os.path.join(ev, "index.json")) as f:
         index = json.load(f)
-    n_tab, n_knot, n_t = index["tables"], index["knots"], index["temperatures"]
+    n_tab, n_knot = index["tables"], index["knots"]
     ln_ups = load_f64(os.path.join(ev, "ln_upsilon.f64")).reshape(n_tab, n_knot)
     g_upper = load_f64(os.path.join(ev, "g_upper.f64"))
-    temps = load_f64(os.path.join(ev, "temperatures_k.f64"))
     log10_knots = index["log10_t_min_k"] + index["log10_t_step"] * np.arange(n_knot)
     # ln q_ul at the knots: q_ul = C Upsilon / (g_u sqrt(T)) (Osterbrock & Ferland 2006, eq. 3.20).
     ln_q_knots = (
@@ -53,6 +53,14 @@ def evaluation(work, reps):
         + np.log(index["rate_prefactor_cm3_s_k_half"] / g_upper)[:, None]
         - 0.5 * np.log(10.0) * log10_knots[None, :]
     )
+    return index, log10_knots, ln_q_knots
+
+
+def evaluation(work, reps):
+    ev = os.path.join(work, "eval")
+    index, log10_knots, ln_q_knots = knots_for_interp(work)
+    n_tab, n_knot, n_t = index["tables"], index["knots"], index["temperatures"]
+    temps = load_f64(os.path.join(ev, "temperatures_k.f64"))
     x = np.log10(temps)
     result = np.empty((n_tab, n_t))
 
@@ -118,6 +126,57 @@ def evaluation(work, reps):
         "interp_max_relative_difference_from_ratewell": interp_vs_ours,
         "cubic_spline_max_relative_difference_from_ratewell": spline_vs_ours,
         "batch_curve": curve,
+    }
+
+
+def bindings(work, reps):
+    """The same 1e6 values as the Rust library and the C ABI (written by ratewell-bench into
+    <work>/bindings), through the ratewell Python package and through numpy.interp on the same
+    tables, ONE thread on both sides (the package evaluates on the calling thread; numpy.interp
+    is single-threaded). The package's values must equal the Rust library's bit for bit."""
+    try:
+        import ratewell
+    except ImportError:
+        return {"skipped": "the ratewell Python package is not installed in this environment"}
+    folder = os.path.join(work, "bindings")
+    with open(os.path.join(folder, "index.json")) as f:
+        index = json.load(f)
+    tables = ratewell.load_tables(os.path.join(folder, index["table_file"]))
+    temps = load_f64(os.path.join(folder, "temperatures_k.f64"))
+    transitions = [tuple(t) for t in index["transitions"]]
+    rust = load_f64(os.path.join(folder, "rust_deexcitation.f64"))
+    kept = {}
+
+    def run_package():
+        kept["d"] = tables.evaluate(temps, transitions=transitions, direction="deexcitation")[1]
+
+    package_s = best_of(reps, run_package)
+    identical = bool(np.array_equal(kept["d"].reshape(-1).view(np.uint64), rust.view(np.uint64)))
+
+    # numpy.interp on the same tables: the first len(transitions) tables of the evaluation dump
+    # are the same tables in the same order.
+    _, log10_knots, ln_q_knots = knots_for_interp(work)
+    ln_q_knots = ln_q_knots[: len(transitions)]
+    x = np.log10(temps)
+    result = np.empty((len(transitions), len(temps)))
+
+    def run_interp():
+        for i in range(len(transitions)):
+            np.exp(np.interp(x, log10_knots, ln_q_knots[i]), out=result[i])
+
+    interp_s = best_of(reps, run_interp)
+    values = len(transitions) * len(temps)
+    print(
+        f"Python package {package_s / values * 1e9:.2f} ns/value (bit-identical to Rust: {identical}), "
+        f"numpy.interp {interp_s / values * 1e9:.2f} ns/value, one thread, {values} values"
+    )
+    return {
+        "threads": 1,
+        "values": values,
+        "package_seconds_per_value": package_s / values,
+        "package_bit_identical_to_rust": identical,
+        "interp_seconds_per_value": interp_s / values,
+        "ratewell_version": getattr(ratewell, "__version__", None),
     }
 
 
@@ -188,6 +247,7 @@ def main():
         "versions": {"python": platform.python_version(), "numpy": np.__version__, "scipy": scipy.__version__},
         "blas": blas_info(),
         "evaluation": evaluation(args.work, reps),
+        "bindings": bindings(args.work, max(reps, 5) if not args.quick else 2),
         "solves": solves(args.work, core, 1 if args.quick else 3),
     }
     path = os.path.join(args.work, "python.json")

@@ -40,6 +40,8 @@ trap 'rm -rf "$venv"' EXIT
 echo "== Python baselines: numpy + scipy in a throwaway environment ($venv) =="
 python3 -m venv "$venv"
 "$venv/bin/pip" install --quiet --disable-pip-version-check numpy scipy threadpoolctl
+echo "== the ratewell Python package (release build) into the same environment =="
+"$venv/bin/pip" install --quiet --disable-pip-version-check ./client/python
 
 echo "== release build =="
 cargo build --release --locked -p ratewell-service --bin ratewell-server --bin ratewell-bench-core

@@ -10,10 +10,9 @@
 //!   `python.json` (numpy / scipy baselines), prints every ratio with its target and PASS or
 //!   FALL SHORT, and writes `results.json`, `results.md` and the plot `performance.svg`.
 
+mod bindings;
 mod measure;
-
 mod plot;
-
 mod report;
 
 use clap::{Parser, Subcommand};

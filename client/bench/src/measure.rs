@@ -26,9 +26,9 @@ pub(crate) type Failure = Box<dyn std::error::Error + Send + Sync>;
 const EVAL_TABLES: usize = 2000;
 const EVAL_TEMPERATURES: usize = 10_000;
 /// 64 knots: 10^1.7 K to 10^8 K at 10 per decade.
-const EVAL_GRID: (f64, f64, u32) = (50.118_723_362_727_23, 1.0e8, 10);
+pub(crate) const EVAL_GRID: (f64, f64, u32) = (50.118_723_362_727_23, 1.0e8, 10);
 /// Species of the evaluation dataset (64 levels, 2,016 transitions; written by bench-core).
-const EVAL_SPECIES: &str = "Bm I";
+pub(crate) const EVAL_SPECIES: &str = "Bm I";
 /// Batch sizes of the evaluation-cost curve (temperatures on one table).
 const BATCH_SIZES: [usize; 7] = [1, 10, 100, 1000, 10_000, 100_000, 1_000_000];
 
@@ -190,14 +190,14 @@ fn lookup_request(
 }
 
 /// `n` temperatures spread evenly in log T over [10^1.75, 10^7.95] K (inside the 64-knot grid).
-fn eval_temperatures(n: usize) -> Vec<f64> {
+pub(crate) fn eval_temperatures(n: usize) -> Vec<f64> {
     (0..n)
         .map(|j| 10f64.powf(1.75 + 6.2 * (j as f64 + 0.5) / n as f64))
         .collect()
 }
 
 /// Best wall time of `reps` runs of `f`, seconds.
-fn best_of(reps: usize, mut f: impl FnMut()) -> f64 {
+pub(crate) fn best_of(reps: usize, mut f: impl FnMut()) -> f64 {
     (0..reps)
         .map(|_| {
             let started = Instant::now();
@@ -260,6 +260,7 @@ async fn measure_all(server_bin: &Path, data_dir: &Path, work: &Path, quick: boo
     );
 
     let eval = measure_local_evaluation(&server, work, quick).await?;
+    let bindings = super::bindings::measure(&server.address, work, quick).await?;
     let rpc = measure_rpc(&server, quick).await?;
     let latency = measure_latency(&server, quick).await?;
     Ok(json!({
@@ -274,6 +275,7 @@ async fn measure_all(server_bin: &Path, data_dir: &Path, work: &Path, quick: boo
             "datasets": ["demo", "bench-eval (64 levels)", "bench-large (300 levels)"],
         },
         "evaluation": eval,
+        "bindings": bindings,
         "rpc": rpc,
         "latency": latency,
     }))
@@ -300,17 +302,18 @@ async fn measure_local_evaluation(server: &Server, work: &Path, quick: bool) -> 
     let temps = eval_temperatures(EVAL_TEMPERATURES);
     let values = (EVAL_TABLES * EVAL_TEMPERATURES) as f64;
     let reps = if quick { 1 } else { 5 };
-    // Both threads of the machine (the parallel path, opted into), as the figures in the
-    // README's Performance section state.
+    // One thread (the library's default), like numpy on the other side; the parallel path
+    // (opted into) is measured separately as a scaling figure.
     let deexcitation = EvalOptions {
         direction: Direction::Deexcitation,
-        parallel: true,
+        parallel: false,
         ..EvalOptions::default()
     };
     let both = EvalOptions {
-        parallel: true,
+        parallel: false,
         ..EvalOptions::default()
     };
+    let threads = std::thread::available_parallelism().map_or(1, usize::from);
 
     // Through the client library: one call, every table at every temperature.
     let mut out = RateBuffers::default();
@@ -325,6 +328,16 @@ async fn measure_local_evaluation(server: &Server, work: &Path, quick: bool) -> 
     let client_both_s = best_of(reps, || {
         tables
             .evaluate_into(&transitions, &temps, both, &mut out)
+            .unwrap();
+        black_box(&out.deexcitation);
+    });
+    let parallel = EvalOptions {
+        parallel: true,
+        ..deexcitation
+    };
+    let client_parallel_s = best_of(reps, || {
+        tables
+            .evaluate_into(&transitions, &temps, parallel, &mut out)
             .unwrap();
         black_box(&out.deexcitation);
     });
@@ -416,10 +429,12 @@ async fn measure_local_evaluation(server: &Server, work: &Path, quick: bool) -> 
         }));
     }
     eprintln!(
-        "local evaluation: client {:.2} ns/value (both directions {:.2}), kernel {:.2} ns/value; served == local: {bit_identical}",
+        "local evaluation, one thread: client {:.2} ns/value (both directions {:.2}), kernel {:.2} ns/value; \
+         {threads} threads: {:.2} ns/value; served == local: {bit_identical}",
         client_s / values * 1e9,
         client_both_s / values * 1e9,
-        kernel_s / values * 1e9
+        kernel_s / values * 1e9,
+        client_parallel_s / values * 1e9,
     );
     Ok(json!({
         "tables": EVAL_TABLES,
@@ -430,6 +445,9 @@ async fn measure_local_evaluation(server: &Server, work: &Path, quick: bool) -> 
         "client_ns_per_value": client_s / values * 1e9,
         "client_both_directions_ns_per_value": client_both_s / values * 1e9,
         "kernel_ns_per_value": kernel_s / values * 1e9,
+        "threads": 1,
+        "client_parallel_ns_per_value": client_parallel_s / values * 1e9,
+        "parallel_threads": threads,
         "server_and_local_bit_identical": bit_identical,
         "batch_curve": curve,
     }))
@@ -476,7 +494,7 @@ fn write_sample_for_python(values: &[f64], work: &Path) -> Result<(), Failure> {
     write_f64(&work.join("eval").join("ratewell_sample.f64"), &sample)
 }
 
-fn write_f64(path: &Path, values: &[f64]) -> Result<(), Failure> {
+pub(crate) fn write_f64(path: &Path, values: &[f64]) -> Result<(), Failure> {
     let bytes: Vec<u8> = values.iter().flat_map(|v| v.to_le_bytes()).collect();
     std::fs::write(path, bytes)?;
     Ok(())

@@ -51,6 +51,73 @@ fn fmt_us(s: f64) -> String {
     }
 }
 
+/// The language bindings: the C ABI and the Python package against the Rust library on the
+/// same 1e6 values, numpy.interp on the same tables, and loading a table file; one thread each.
+fn binding_rows(rust: &Value, py: &Value) -> Result<Vec<Row>, Failure> {
+    let mut rows = Vec::new();
+    let Some(b) = rust.get("bindings") else {
+        return Ok(rows);
+    };
+    let ours = num(b, "/rust_seconds_per_value")?;
+    let abi = num(b, "/c_abi_seconds_per_value")?;
+    let same = b.pointer("/c_abi_bit_identical").and_then(Value::as_bool) == Some(true);
+    rows.push(Row {
+        what: format!(
+            "C ABI (ratewell_tables_evaluate) vs the Rust library, 1e6 values, one thread each{}",
+            if same { ", same bits" } else { ", BITS DIFFER" }
+        ),
+        ratewell: fmt_ns(abi),
+        baseline: fmt_ns(ours),
+        ratio: format!("{:.3}x the Rust time", abi / ours),
+        target: "<= 1.10x".into(),
+        pass: Some(same && abi / ours <= 1.10),
+    });
+    if let (Ok(package), Ok(interp)) = (
+        num(py, "/bindings/package_seconds_per_value"),
+        num(py, "/bindings/interp_seconds_per_value"),
+    ) {
+        let same = py
+            .pointer("/bindings/package_bit_identical_to_rust")
+            .and_then(Value::as_bool)
+            == Some(true);
+        rows.push(Row {
+            what: format!(
+                "Python package (numpy arrays) vs the Rust library, 1e6 values, one thread each{}",
+                if same { ", same bits" } else { ", BITS DIFFER" }
+            ),
+            ratewell: fmt_ns(package),
+            baseline: fmt_ns(ours),
+            ratio: format!("{:.2}x the Rust time", package / ours),
+            target: "<= 1.5x".into(),
+            pass: Some(same && package / ours <= 1.5),
+        });
+        rows.push(Row {
+            what: "Python package vs numpy.interp (log-log) on the same tables, 1e6 values, one thread each"
+                .into(),
+            ratewell: fmt_ns(package),
+            baseline: fmt_ns(interp),
+            ratio: speedup(interp, package),
+            target: ">= 3x faster".into(),
+            pass: Some(interp / package >= 3.0),
+        });
+    }
+    let load = num(b, "/table_file_load/load_seconds")?;
+    rows.push(Row {
+        what: format!(
+            "table file load (read, checksum, decode, digest check), {} levels / {} tables, {:.0} MB, one thread",
+            num(b, "/table_file_load/levels")?,
+            num(b, "/table_file_load/tables")?,
+            num(b, "/table_file_load/file_bytes")? / 1e6
+        ),
+        ratewell: fmt_us(load),
+        baseline: "-".into(),
+        ratio: "-".into(),
+        target: "< 50 ms".into(),
+        pass: Some(load < 0.05),
+    });
+    Ok(rows)
+}
+
 /// Builds the table, prints it and writes the results and the plot into `work`.
 pub(crate) fn run(work: &Path, command_line: &str) -> Result<(), Failure> {
     let core = read(&work.join("core.json"))?;
@@ -63,7 +130,7 @@ pub(crate) fn run(work: &Path, command_line: &str) -> Result<(), Failure> {
     let kernel_ns = num(&rust, "/evaluation/kernel_ns_per_value")? * 1e-9;
     let interp = num(&py, "/evaluation/interp_seconds_per_value")?;
     let spline = num(&py, "/evaluation/cubic_spline_seconds_per_value")?;
-    let shape = "2,000 tables x 64 knots at 10,000 temperatures";
+    let shape = "2,000 tables x 64 knots at 10,000 temperatures, one thread each";
     rows.push(Row {
         what: format!("local evaluation, client library, {shape}: vs numpy.interp (log-log)"),
         ratewell: fmt_ns(client_ns),
@@ -96,6 +163,22 @@ pub(crate) fn run(work: &Path, command_line: &str) -> Result<(), Failure> {
         target: "(information)".into(),
         pass: None,
     });
+    if let (Some(parallel), Some(threads)) = (
+        rust.pointer("/evaluation/client_parallel_ns_per_value")
+            .and_then(Value::as_f64),
+        rust.pointer("/evaluation/parallel_threads")
+            .and_then(Value::as_f64),
+    ) {
+        rows.push(Row {
+            what: format!("local evaluation, client library with EvalOptions::parallel, {threads} threads: vs itself on one thread (scaling)"),
+            ratewell: fmt_ns(parallel * 1e-9),
+            baseline: fmt_ns(client_ns),
+            ratio: speedup(client_ns, parallel * 1e-9),
+            target: "(information)".into(),
+            pass: None,
+        });
+    }
+    rows.extend(binding_rows(&rust, &py)?);
 
     // Batched lookups against the echo RPC at the same payload size.
     for r in rust

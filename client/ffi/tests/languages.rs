@@ -12,20 +12,21 @@ use ratewell_e2e::TestServer;
 use std::path::{Path, PathBuf};
 use std::process::Command;
 
-/// target/debug (or the profile folder) holding libratewell.a, found from this test binary.
+/// The folder holding libratewell.a built from this source: target/<profile>/deps (written by
+/// the same rustc run that built the library this test links), else target/<profile>.
 fn library_dir() -> PathBuf {
     let exe = std::env::current_exe().expect("test binary path");
-    let dir = exe
-        .parent()
-        .and_then(Path::parent)
-        .expect("target/<profile>")
-        .to_path_buf();
-    assert!(
-        dir.join("libratewell.a").is_file(),
-        "{} has no libratewell.a: build it with `cargo build -p ratewell-ffi`",
-        dir.display()
-    );
-    dir
+    let deps = exe.parent().expect("target/<profile>/deps").to_path_buf();
+    let profile = deps.parent().expect("target/<profile>").to_path_buf();
+    [deps, profile]
+        .into_iter()
+        .find(|dir| dir.join("libratewell.a").is_file())
+        .unwrap_or_else(|| {
+            panic!(
+                "{} has no libratewell.a: build it with `cargo build -p ratewell-ffi`",
+                exe.display()
+            )
+        })
 }
 
 fn crate_dir() -> &'static Path {

@@ -10,8 +10,8 @@ use pyo3::exceptions::{PyException, PyValueError};
 use pyo3::prelude::*;
 use pyo3::types::PyDict;
 use ratewell_client::{
-    Client, ClientConfig, ClientError, DatasetRef, EvalOptions, LocalTables, OutsidePolicy, PopulationQuery,
-    RateUnit, TemperatureUnit, Transition, pb,
+    Client, ClientConfig, ClientError, DatasetRef, Direction, EvalOptions, LocalTables, OutsidePolicy,
+    PopulationQuery, RateUnit, TemperatureUnit, Transition, pb,
 };
 use std::path::Path;
 use std::sync::Arc;
@@ -239,7 +239,23 @@ fn outside_policy(name: &str) -> PyResult<OutsidePolicy> {
     }
 }
 
-type Evaluated<'py> = (Bound<'py, PyAny>, Bound<'py, PyAny>, Bound<'py, PyAny>);
+fn direction(name: &str) -> PyResult<Direction> {
+    match name {
+        "both" => Ok(Direction::Both),
+        "excitation" => Ok(Direction::Excitation),
+        "deexcitation" => Ok(Direction::Deexcitation),
+        other => Err(PyValueError::new_err(format!(
+            "direction = {other:?}: must be \"both\", \"excitation\" or \"deexcitation\""
+        ))),
+    }
+}
+
+/// (excitation, deexcitation, flags); a direction not asked for is None.
+type Evaluated<'py> = (
+    Option<Bound<'py, PyAny>>,
+    Option<Bound<'py, PyAny>>,
+    Bound<'py, PyAny>,
+);
 
 #[pymethods]
 impl Tables {
@@ -289,9 +305,11 @@ impl Tables {
 
     /// Evaluates rate coefficients with the server's rule. `temperatures`: a 1-D float64
     /// array; `transitions`: a list of (upper, lower) or None for every table. Returns
-    /// (excitation, deexcitation, flags), each of shape (transitions, temperatures). The GIL is
-    /// released while evaluating.
-    #[pyo3(signature = (temperatures, transitions=None, temperature_unit="K", rate_unit="cm3/s", outside="refuse"))]
+    /// (excitation, deexcitation, flags), each of shape (transitions, temperatures); with
+    /// `direction` "excitation" or "deexcitation" the other array is None. The GIL is released
+    /// while evaluating.
+    #[pyo3(signature = (temperatures, transitions=None, temperature_unit="K", rate_unit="cm3/s", outside="refuse", direction="both"))]
+    #[allow(clippy::too_many_arguments)] // one parameter per Python keyword argument
     fn evaluate<'py>(
         &self,
         py: Python<'py>,
@@ -300,14 +318,17 @@ impl Tables {
         temperature_unit: &str,
         rate_unit: &str,
         outside: &str,
+        direction: &str,
     ) -> PyResult<Evaluated<'py>> {
-        // The default direction is both (excitation and de-excitation).
         let options = EvalOptions {
             temperature_unit: self::temperature_unit(temperature_unit)?,
             rate_unit: self::rate_unit(rate_unit)?,
             outside: outside_policy(outside)?,
+            direction: self::direction(direction)?,
             ..EvalOptions::default()
         };
+        let want_e = options.direction != Direction::Deexcitation;
+        let want_d = options.direction != Direction::Excitation;
         let chosen: Vec<Transition> = transitions
             .unwrap_or_default()
             .into_iter()
@@ -330,16 +351,19 @@ impl Tables {
         let tables = &self.tables;
         let (e, d, f) = py
             .detach(|| {
-                let (mut e, mut d, mut f) = (vec![0.0; n], vec![0.0; n], vec![0u32; n]);
+                let size = |wanted: bool| if wanted { n } else { 0 };
+                let (mut e, mut d, mut f) = (vec![0.0; size(want_e)], vec![0.0; size(want_d)], vec![0u32; n]);
                 tables
                     .evaluate_to_slices(&chosen, &temps, options, &mut e, &mut d, &mut f)
                     .map(|()| (e, d, f))
             })
             .map_err(to_py)?;
         let shape = [rows, n_t];
+        let array =
+            |values: Vec<f64>| -> PyResult<_> { Ok(values.into_pyarray(py).reshape(shape)?.into_any()) };
         Ok((
-            e.into_pyarray(py).reshape(shape)?.into_any(),
-            d.into_pyarray(py).reshape(shape)?.into_any(),
+            if want_e { Some(array(e)?) } else { None },
+            if want_d { Some(array(d)?) } else { None },
             f.into_pyarray(py).reshape(shape)?.into_any(),
         ))
     }

@@ -66,6 +66,17 @@ def test_units_transitions_and_extrapolation(tables):
     assert not (flags[:, 0] & ratewell.FLAG_OUTSIDE_GRID).any()
 
 
+def test_one_direction_gives_the_same_bits_and_none_for_the_other(tables):
+    t_k = np.geomspace(3.0e3, 3.0e5, 50)
+    exc, deexc, flags = tables.evaluate(t_k)
+    only_e, none_d, flags_e = tables.evaluate(t_k, direction="excitation")
+    none_e, only_d, flags_d = tables.evaluate(t_k, direction="deexcitation")
+    assert none_d is None and none_e is None
+    assert np.array_equal(only_e.view(np.uint64), exc.view(np.uint64))
+    assert np.array_equal(only_d.view(np.uint64), deexc.view(np.uint64))
+    assert np.array_equal(flags_e, flags) and np.array_equal(flags_d, flags)
+
+
 @pytest.mark.parametrize(
     "kwargs, words",
     [
@@ -75,6 +86,7 @@ def test_units_transitions_and_extrapolation(tables):
         (dict(temperatures=np.array([1e4]), temperature_unit="C"), 'temperature_unit = "C"'),
         (dict(temperatures=np.array([1e4]), outside="maybe"), 'outside = "maybe"'),
         (dict(temperatures=np.ones((2, 2))), "must be a 1-D array"),
+        (dict(temperatures=np.array([1e4]), direction="up"), 'direction = "up"'),
     ],
 )
 def test_bad_input_raises_value_error_naming_the_argument(tables, kwargs, words):

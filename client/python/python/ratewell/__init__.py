@@ -65,13 +65,14 @@ class Tables:
         return self._native.cautions
 
     def evaluate(self, temperatures, transitions=None, temperature_unit="K", rate_unit="cm3/s",
-                 outside="refuse"):
+                 outside="refuse", direction="both"):
         """Rate coefficients at `temperatures` ("K" or "eV") for `transitions` (a list of
         (upper, lower); None: every table), in "cm3/s" or "m3/s". `outside`: "refuse" (a
-        temperature off the grid raises ValueError) or "extrapolate" (flagged). Returns
-        (excitation, deexcitation, flags), arrays of shape (transitions, temperatures)."""
+        temperature off the grid raises ValueError) or "extrapolate" (flagged). `direction`:
+        "both", "excitation" or "deexcitation". Returns (excitation, deexcitation, flags),
+        arrays of shape (transitions, temperatures); a direction not asked for is None."""
         return self._native.evaluate(_temperatures(temperatures), transitions, temperature_unit,
-                                     rate_unit, outside)
+                                     rate_unit, outside, direction)
 
     def save(self, directory):
         """Writes a table file into `directory` (atomically); returns its path."""

@@ -6,52 +6,13 @@
 
 use criterion::{Criterion, Throughput, criterion_group, criterion_main};
 use ratewell::*;
-use ratewell_client::{EvalOptions, LocalTables, pb};
-use ratewell_proto::digest::table_set_digest;
-use ratewell_proto::rule::{LogGrid, RateTable, TableHeader};
-use ratewell_proto::wire::{grid_to_wire, table_to_wire};
+use ratewell_bench::invented;
+use ratewell_client::EvalOptions;
 use std::ffi::CString;
 use std::hint::black_box;
 
-fn invented_tables() -> LocalTables {
-    let grid = LogGrid::from_range(1e3, 1e8, 20).unwrap();
-    let tables: Vec<RateTable> = (0..500u32)
-        .map(|k| {
-            let header = TableHeader {
-                upper: 2 + k / 10,
-                lower: 1 + k % 10,
-                g_lower: 2.0,
-                g_upper: 4.0,
-                excitation_energy_k: 500.0 + 37.0 * f64::from(k),
-                source_t_min_k: 1e3,
-                source_t_max_k: 1e8,
-                approximate: false,
-            };
-            let y = (0..grid.knots())
-                .map(|i| -1.0 + 0.2 * ((i as f64) * 0.05 + f64::from(k)).sin())
-                .collect();
-            RateTable::from_knots(header, grid, y).unwrap()
-        })
-        .collect();
-    let species = "Bm II".to_string();
-    LocalTables::from_wire(pb::FetchTablesResponse {
-        stamp: Some(pb::DatasetStamp {
-            id: "bench".into(),
-            version: "1.0.0".into(),
-            content_hash: "0".repeat(64),
-            tables_digest: String::new(),
-        }),
-        table_set_digest: table_set_digest(&species, &grid, &tables),
-        species,
-        grid: Some(grid_to_wire(&grid)),
-        tables: tables.iter().map(table_to_wire).collect(),
-        cautions: vec![],
-    })
-    .unwrap()
-}
-
 fn abi_vs_rust(c: &mut Criterion) {
-    let tables = invented_tables();
+    let tables = invented::transitions(500);
     let dir = std::env::temp_dir().join(format!("ratewell-bench-abi-{}", std::process::id()));
     let path = tables.save(&dir).unwrap();
     let c_path = CString::new(path.to_str().unwrap()).unwrap();
