@@ -123,6 +123,7 @@ say "running $JOBS concurrent jobs ($SPECIES, $STEPS steps, populations every $S
 for i in $(seq 1 "$JOBS"); do
   RATEWELL_PIN_HASH="$HASH" "$BIN/ratewell-demo-job" run \
     --job-id "job-$i" --species "$SPECIES" --steps "$STEPS" --solve-every "$SOLVE_EVERY" \
+    --cache-dir "$WORK/table-cache" \
     >"$WORK/job-$i.json" 2>"$WORK/job-$i.log" &
   JOB_PIDS+=("$!")
 done
@@ -137,6 +138,24 @@ for i in $(seq 1 "$JOBS"); do
   fi
 done
 JOB_PIDS=()
+
+CACHED=$(find "$WORK/table-cache" -name '*.rwtables' | wc -l)
+echo "  the $JOBS jobs shared one folder: $CACHED table file(s) in it (one fetch, the others read it)"
+
+say "nodes with no route to the service: one table file, written where the service is reachable"
+"$BIN/ratewell" --dataset demo save-tables "$SPECIES" --output-dir "$WORK/tables"
+TABLE_FILE="$(find "$WORK/tables" -name '*.rwtables' | head -n1)"
+[[ -n "$TABLE_FILE" ]] || fail "ratewell save-tables wrote no table file"
+OFFLINE_FAILURES=0
+for i in 1 2; do
+  # An address where nothing listens: these jobs must not need the server at all.
+  "$BIN/ratewell-demo-job" run --server http://127.0.0.1:1 --pin-hash "$HASH" \
+    --job-id "offline-$i" --species "$SPECIES" --steps "$STEPS" --solve-every "$SOLVE_EVERY" \
+    --table-file "$TABLE_FILE" >"$WORK/offline-$i.json" 2>"$WORK/offline-$i.log" \
+    || OFFLINE_FAILURES=$((OFFLINE_FAILURES + 1))
+  sed 's/^/  /' "$WORK/offline-$i.log"
+done
+JOB_FAILURES=$((JOB_FAILURES + OFFLINE_FAILURES))
 
 say "one job's results (job-1; INVENTED data)"
 if command -v jq >/dev/null 2>&1; then
@@ -162,12 +181,15 @@ fi
 say "comparing the $JOBS job summaries"
 VERIFY_RC=0
 "$BIN/ratewell-demo-job" verify $(for i in $(seq 1 "$JOBS"); do echo "$WORK/job-$i.json"; done) || VERIFY_RC=$?
+say "comparing the jobs that read the table file with the others (local rates and table-set digest)"
+"$BIN/ratewell-demo-job" verify "$WORK"/job-*.json "$WORK"/offline-*.json || VERIFY_RC=$?
+[[ "$CACHED" -eq 1 ]] || { echo "expected 1 table file in the shared folder, found $CACHED" >&2; VERIFY_RC=1; }
 
 ELAPSED=$((SECONDS - STARTED))
 echo
 if [[ $JOB_FAILURES -eq 0 && $VERIFY_RC -eq 0 && -n "$PIN_OK" ]]; then
   VERDICT="PASS"
-  echo "DEMO PASS: $JOBS concurrent jobs used one dataset content hash and computed identical numbers; a wrong pin was refused (${ELAPSED} s after the build)"
+  echo "DEMO PASS: $JOBS concurrent jobs (one fetch through a shared folder) and 2 jobs reading a table file with no server used one dataset content hash and computed identical numbers; a wrong pin was refused (${ELAPSED} s after the build)"
 else
   echo "DEMO FAIL: $JOB_FAILURES job(s) failed, verify exit status $VERIFY_RC, pin refusal $([[ -n "$PIN_OK" ]] && echo ok || echo 'NOT seen') (${ELAPSED} s after the build)" >&2
   exit 1

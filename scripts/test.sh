@@ -25,6 +25,7 @@ fi
 
 cargo test --workspace --locked
 ./scripts/python-client-check.sh
-if [[ -x ./scripts/python-package-check.sh ]]; then
-    ./scripts/python-package-check.sh
-fi
+./scripts/python-package-check.sh
+# The deploy demo: concurrent jobs sharing one fetch through a table-file folder, jobs reading a
+# table file with no server, a refused pin (small run; the debug binaries are already built).
+RATEWELL_DEMO_JOBS=3 RATEWELL_DEMO_STEPS=400 RATEWELL_DEMO_SOLVE_EVERY=100 bash deploy-demo/run-demo.sh

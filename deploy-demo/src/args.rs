@@ -75,6 +75,15 @@ pub(crate) struct RunArgs {
     /// land in one log.
     #[arg(long)]
     pub(crate) quiet: bool,
+    /// Take the tables from this table file (written by `ratewell save-tables`) instead of the
+    /// server: for nodes with no route to the service. No server is contacted, so there are no
+    /// population solves and no bit check against server lookups.
+    #[arg(long, value_name = "FILE", conflicts_with = "cache_dir")]
+    pub(crate) table_file: Option<PathBuf>,
+    /// Shared table-file folder (e.g. node-local /tmp): the first job on a node fetches and
+    /// writes the tables, the others read them, so a node makes one fetch.
+    #[arg(long, env = "RATEWELL_CACHE_DIR", value_name = "DIR")]
+    pub(crate) cache_dir: Option<PathBuf>,
     /// Time budget of each server call, seconds (> 0, at most 3600).
     #[arg(long, default_value_t = 10.0, allow_negative_numbers = true)]
     pub(crate) timeout_s: f64,
@@ -107,6 +116,20 @@ pub(crate) struct JobPlan {
     pub(crate) call_timeout: Duration,
     /// No progress lines.
     pub(crate) quiet: bool,
+    /// Where the tables come from.
+    pub(crate) tables_from: TablesFrom,
+}
+
+/// Where a job takes its tables from.
+#[derive(Debug, Clone, PartialEq)]
+pub(crate) enum TablesFrom {
+    /// Fetched from the server (through the shared folder when one is given).
+    Server {
+        /// The shared table-file folder, if any.
+        cache_dir: Option<PathBuf>,
+    },
+    /// Read from a table file; no server is contacted.
+    File(PathBuf),
 }
 
 /// Longest time budget per call, seconds.
@@ -157,6 +180,12 @@ impl RunArgs {
             solve_every: self.solve_every,
             call_timeout: Duration::from_secs_f64(self.timeout_s),
             quiet: self.quiet,
+            tables_from: match &self.table_file {
+                Some(path) => TablesFrom::File(path.clone()),
+                None => TablesFrom::Server {
+                    cache_dir: self.cache_dir.clone(),
+                },
+            },
         })
     }
 }

@@ -2,7 +2,7 @@
 //! cooling track, ask the server for level populations every few steps (checking the local
 //! values against the server's own lookup at those steps), and summarise.
 
-use crate::args::JobPlan;
+use crate::args::{JobPlan, TablesFrom};
 use crate::digest::{NumberDigest, combine};
 use crate::error::JobError;
 use crate::summary::{
@@ -23,13 +23,33 @@ const CHECKSUM_METHOD: &str =
 /// Runs the job, reporting progress on standard error.
 pub(crate) fn run(plan: &JobPlan) -> Result<Summary, JobError> {
     let started = Instant::now();
-    let config = ClientConfig::new(plan.server.clone())
-        .with_dataset(plan.dataset.clone())
-        .with_call_timeout(plan.call_timeout);
-    let client = blocking::Client::new(config)?;
-
-    // One fetch per job; every later evaluation is in-process.
-    let tables = client.fetch_tables(&plan.species, None)?;
+    // One fetch per job (or one read of a table file); every later evaluation is in-process.
+    let (client, tables, tables_source) = match &plan.tables_from {
+        TablesFrom::Server { cache_dir } => {
+            let mut config = ClientConfig::new(plan.server.clone())
+                .with_dataset(plan.dataset.clone())
+                .with_call_timeout(plan.call_timeout);
+            if let Some(dir) = cache_dir {
+                config = config.with_cache_dir(dir.clone());
+            }
+            let client = blocking::Client::new(config)?;
+            let tables = client.fetch_tables(&plan.species, None)?;
+            let source = match cache_dir {
+                Some(dir) => format!(
+                    "server {} through the shared folder {}",
+                    plan.server,
+                    dir.display()
+                ),
+                None => format!("server {}", plan.server),
+            };
+            (Some(client), tables, source)
+        }
+        TablesFrom::File(path) => {
+            let tables = std::sync::Arc::new(LocalTables::load(path)?);
+            check_file_matches_plan(plan, &tables)?;
+            (None, tables, format!("table file {}", path.display()))
+        }
+    };
     let fetch = started.elapsed();
     let stamp = tables.stamp().clone();
     let grid = tables.grid();
@@ -90,6 +110,7 @@ pub(crate) fn run(plan: &JobPlan) -> Result<Summary, JobError> {
         ground_excitation.1 = g;
         local_time += local_started.elapsed();
 
+        let Some(client) = &client else { continue };
         if step % plan.solve_every == 0 || step == steps - 1 {
             let server_started = Instant::now();
             let query = PopulationQuery::points(plan.species.clone(), vec![t_k], vec![ne_cm3]);
@@ -122,7 +143,13 @@ pub(crate) fn run(plan: &JobPlan) -> Result<Summary, JobError> {
     Ok(Summary {
         job_id: plan.job_id.clone(),
         note: INVENTED_NOTE.into(),
-        server: plan.server.clone(),
+        server: if client.is_some() {
+            plan.server.clone()
+        } else {
+            "none (tables from a table file)".into()
+        },
+        tables_source,
+        table_set_digest: tables.digest().to_string(),
         dataset: DatasetInfo {
             id: stamp.id.clone(),
             version: stamp.version.clone(),
@@ -163,6 +190,35 @@ pub(crate) fn run(plan: &JobPlan) -> Result<Summary, JobError> {
         },
         cautions: tables.cautions().to_vec(),
     })
+}
+
+/// A table file must hold the species and dataset the job was asked for (and the pinned hash).
+fn check_file_matches_plan(plan: &JobPlan, tables: &LocalTables) -> Result<(), JobError> {
+    let stamp = tables.stamp();
+    let wanted = &plan.dataset;
+    let mismatch = |what: &str, got: &str, expected: &str| {
+        Err(JobError::from(ratewell_client::ClientError::StampMismatch {
+            operation: "table file",
+            message: format!("the file holds {what} {got:?}, the job asked for {expected:?}"),
+        }))
+    };
+    if tables.species() != plan.species {
+        return mismatch("species", tables.species(), &plan.species);
+    }
+    if stamp.id != wanted.id() {
+        return mismatch("dataset", &stamp.id, wanted.id());
+    }
+    if let Some(version) = wanted.version()
+        && stamp.version != version
+    {
+        return mismatch("dataset version", &stamp.version, version);
+    }
+    if let Some(pin) = wanted.pinned_content_hash()
+        && !stamp.content_hash.eq_ignore_ascii_case(pin)
+    {
+        return mismatch("content hash", &stamp.content_hash, pin);
+    }
+    Ok(())
 }
 
 /// A progress line on standard error, unless the plan is quiet.

@@ -13,8 +13,12 @@ pub(crate) struct Summary {
     pub(crate) job_id: String,
     /// The caution that the data are invented.
     pub(crate) note: String,
-    /// Server address used.
+    /// Server address used ("none ..." when the tables came from a table file).
     pub(crate) server: String,
+    /// Where the tables came from: the server, the server through a shared folder, or a file.
+    pub(crate) tables_source: String,
+    /// The table-set digest of the tables evaluated (equal digests: equal bits).
+    pub(crate) table_set_digest: String,
     /// The dataset every answer came from.
     pub(crate) dataset: DatasetInfo,
     /// Species evaluated.

@@ -31,10 +31,27 @@ pub(crate) fn read_summary(path: &Path) -> Result<Summary, JobError> {
 pub(crate) fn verify(summaries: &[(String, Summary)]) -> Verdict {
     let mut report = String::new();
     let mut problems = Vec::new();
+    // Jobs that read a table file made no server calls: then only the locally evaluated rates
+    // (the same for every job) are compared, and the table-set digests must agree.
+    let offline = |s: &Summary| s.tables_source.starts_with("table file");
+    let any_offline = summaries.iter().any(|(_, s)| offline(s));
+    let compared = |s: &Summary| {
+        if any_offline {
+            s.checksum.local_rates.clone()
+        } else {
+            s.checksum.all.clone()
+        }
+    };
     let _ = writeln!(
         report,
         "{:<16} {:<12} {:<14} {:<14} {:>10} {:>7} {:>11}",
-        "JOB", "DATASET", "CONTENT_HASH", "CHECKSUM", "NUMBERS", "SOLVES", "BITS_DIFFER"
+        "JOB",
+        "DATASET",
+        "CONTENT_HASH",
+        if any_offline { "LOCAL_RATES" } else { "CHECKSUM" },
+        "NUMBERS",
+        "SOLVES",
+        "BITS_DIFFER"
     );
     for (_, s) in summaries {
         let _ = writeln!(
@@ -43,7 +60,7 @@ pub(crate) fn verify(summaries: &[(String, Summary)]) -> Verdict {
             s.job_id,
             format!("{}@{}", s.dataset.id, s.dataset.version),
             short_hash(&s.dataset.content_hash),
-            short_hash(&s.checksum.all),
+            short_hash(&compared(s)),
             s.checksum.values,
             s.solves.len(),
             s.server_check.bit_mismatches
@@ -61,15 +78,20 @@ pub(crate) fn verify(summaries: &[(String, Summary)]) -> Verdict {
                 "{file}: job {} used dataset hash {}, but {first_file} (job {}) used {}",
                 s.job_id, s.dataset.content_hash, first.job_id, first.dataset.content_hash
             ));
-        } else if s.checksum.all != first.checksum.all {
+        } else if s.table_set_digest != first.table_set_digest {
+            problems.push(format!(
+                "{file}: job {} evaluated tables with digest {}, but {first_file} (job {}) used {}",
+                s.job_id, s.table_set_digest, first.job_id, first.table_set_digest
+            ));
+        } else if compared(s) != compared(first) {
             problems.push(format!(
                 "{file}: job {} computed different numbers (checksum {}, {} numbers) from {first_file} \
                  (job {}: checksum {}, {} numbers)",
                 s.job_id,
-                s.checksum.all,
+                compared(s),
                 s.checksum.values,
                 first.job_id,
-                first.checksum.all,
+                compared(first),
                 first.checksum.values
             ));
         }
@@ -79,7 +101,7 @@ pub(crate) fn verify(summaries: &[(String, Summary)]) -> Verdict {
                 s.job_id, s.server_check.bit_mismatches, s.server_check.values_compared
             ));
         }
-        if s.server_check.values_compared == 0 {
+        if s.server_check.values_compared == 0 && !offline(s) {
             problems.push(format!(
                 "{file}: job {}: no local value was checked against the server",
                 s.job_id
@@ -93,18 +115,25 @@ pub(crate) fn verify(summaries: &[(String, Summary)]) -> Verdict {
     if pass {
         let _ = writeln!(
             report,
-            "PASS: {} jobs used dataset {}@{} (content hash {}) and computed identical numbers \
-             (checksum {}, {} numbers each; {} values checked bit for bit against the server)",
+            "PASS: {} jobs used dataset {}@{} (content hash {}, table-set digest {}) and computed \
+             identical numbers ({} {}; {} values checked bit for bit against the server; {} jobs \
+             read a table file)",
             summaries.len(),
             first.dataset.id,
             first.dataset.version,
             first.dataset.content_hash,
-            first.checksum.all,
-            first.checksum.values,
+            short_hash(&first.table_set_digest),
+            if any_offline {
+                "local-rates checksum"
+            } else {
+                "checksum"
+            },
+            compared(first),
             summaries
                 .iter()
                 .map(|(_, s)| s.server_check.values_compared)
-                .sum::<u64>()
+                .sum::<u64>(),
+            summaries.iter().filter(|(_, s)| offline(s)).count()
         );
     } else {
         let _ = writeln!(
@@ -128,6 +157,8 @@ mod tests {
             job_id: job.into(),
             note: INVENTED_NOTE.into(),
             server: "http://127.0.0.1:1".into(),
+            tables_source: "server http://127.0.0.1:1".into(),
+            table_set_digest: "d".repeat(64),
             dataset: DatasetInfo {
                 id: "demo".into(),
                 version: "1.0.0".into(),
@@ -215,6 +246,43 @@ mod tests {
         assert!(v.report.contains("1 of 6 local values differ"), "{}", v.report);
 
         assert!(!verify(&[]).pass);
+    }
+
+    // Jobs on nodes with no route to the server read a table file: they are compared on the
+    // locally evaluated rates and the table-set digest, and need no server check.
+    #[test]
+    fn table_file_jobs_are_compared_on_local_rates_and_digest() {
+        let h1 = "1".repeat(64);
+        let mut offline = summary("b", &h1, "other-all");
+        offline.tables_source = "table file /shared/Mk-II.rwtables".into();
+        offline.solves.clear();
+        offline.server_check = CheckInfo {
+            lookups: 0,
+            values_compared: 0,
+            bit_mismatches: 0,
+        };
+        let v = verify(&named(vec![summary("a", &h1, "c1"), offline.clone()]));
+        assert!(v.pass, "{}", v.report);
+        assert!(v.report.contains("local-rates checksum"), "{}", v.report);
+        assert!(v.report.contains("1 jobs read a table file"), "{}", v.report);
+
+        let mut other_rates = offline.clone();
+        other_rates.checksum.local_rates = "z".into();
+        let v = verify(&named(vec![summary("a", &h1, "c1"), other_rates]));
+        assert!(
+            !v.pass && v.report.contains("job b computed different numbers"),
+            "{}",
+            v.report
+        );
+
+        let mut other_tables = offline;
+        other_tables.table_set_digest = "e".repeat(64);
+        let v = verify(&named(vec![summary("a", &h1, "c1"), other_tables]));
+        assert!(
+            !v.pass && v.report.contains("evaluated tables with digest eeee"),
+            "{}",
+            v.report
+        );
     }
 
     #[test]
