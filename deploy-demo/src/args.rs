@@ -30,7 +30,7 @@ pub(crate) struct Cli {
 #[derive(Debug, Subcommand)]
 pub(crate) enum Command {
     /// Run one job and print its JSON summary on standard output.
-    Run(RunArgs),
+    Run(Box<RunArgs>),
     /// Compare job summaries: same dataset content hash and identical checksums (PASS/FAIL).
     Verify(VerifyArgs),
 }
@@ -206,7 +206,7 @@ mod tests {
     fn parse(args: &[&str]) -> RunArgs {
         let all: Vec<&str> = ["ratewell-demo-job", "run"].iter().chain(args).copied().collect();
         match Cli::try_parse_from(all).unwrap().command {
-            Command::Run(r) => r,
+            Command::Run(r) => *r,
             Command::Verify(_) => panic!("expected run"),
         }
     }
