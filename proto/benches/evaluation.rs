@@ -4,7 +4,9 @@
 #![allow(missing_docs)] // criterion's macros generate undocumented public items
 
 use criterion::{BenchmarkId, Criterion, Throughput, criterion_group, criterion_main};
-use ratewell_proto::rule::{Direction, LogGrid, OutsidePolicy, RateTable, TableHeader, checked_location};
+use ratewell_proto::rule::{
+    Direction, LogGrid, OutsidePolicy, RateTable, TableHeader, checked_location, write_rows, write_tables_at,
+};
 use std::hint::black_box;
 use std::time::Duration;
 
@@ -122,6 +124,19 @@ fn located(c: &mut Criterion) {
     }
     g.finish();
 
+    let mut g = c.benchmark_group("rule/write_rows");
+    g.throughput(Throughput::Elements((tables.len() * n) as u64));
+    let rows: Vec<&RateTable> = tables.iter().collect();
+    let total = rows.len() * n;
+    let (mut re, mut rd, mut rf) = (vec![0.0; total], vec![0.0; total], vec![0u32; total]);
+    g.bench_function("both/200_tables_x_1000_temperatures", |b| {
+        b.iter(|| {
+            write_rows(&rows, &locs, Direction::Both, &mut re, &mut rd, &mut rf).unwrap();
+            black_box(&rd);
+        })
+    });
+    g.finish();
+
     let mut g = c.benchmark_group("rule/one_temperature");
     g.throughput(Throughput::Elements(tables.len() as u64));
     let loc = grid.locate(1.234e4);
@@ -130,6 +145,22 @@ fn located(c: &mut Criterion) {
             for t in &tables {
                 black_box(t.evaluate_at(black_box(&loc)));
             }
+        })
+    });
+    let count = tables.len();
+    let (mut te, mut td, mut tf) = (vec![0.0; count], vec![0.0; count], vec![0u32; count]);
+    g.bench_function("write_tables_at_200_tables", |b| {
+        b.iter(|| {
+            write_tables_at(
+                &tables,
+                black_box(&loc),
+                Direction::Both,
+                &mut te,
+                &mut td,
+                &mut tf,
+            )
+            .unwrap();
+            black_box(&td);
         })
     });
     g.finish();
