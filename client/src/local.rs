@@ -10,7 +10,8 @@ use crate::units::check_temperatures;
 use ratewell_proto::digest::table_set_digest;
 use ratewell_proto::pb;
 use ratewell_proto::rule::{
-    Location, LogGrid, OutsidePolicy, RateTable, RateValue, checked_location, write_rows, write_rows_parallel,
+    Location, LogGrid, OutsidePolicy, RateOutputs, RateTable, RateValue, Threads, checked_location,
+    write_rows,
 };
 use ratewell_proto::wire::{grid_from_wire, grid_to_wire, table_from_wire, table_to_wire};
 use std::collections::HashMap;
@@ -273,11 +274,13 @@ impl LocalTables {
         }
         let direction = options.direction;
         let rows: Vec<&RateTable> = table_indices.iter().map(|&ti| &self.tables[ti]).collect();
-        if options.parallel {
-            write_rows_parallel(&rows, locations, direction, excitation, deexcitation, flags)?;
+        let threads = if options.parallel {
+            Threads::Pool
         } else {
-            write_rows(&rows, locations, direction, excitation, deexcitation, flags)?;
-        }
+            Threads::Caller
+        };
+        let mut out = RateOutputs::new(direction, excitation, deexcitation, flags)?;
+        write_rows(&rows, locations, threads, &mut out)?;
         let unit = options.rate_unit;
         if unit != RateUnit::CubicCentimetrePerSecond {
             for v in excitation.iter_mut().chain(deexcitation.iter_mut()) {

@@ -4,7 +4,10 @@
 #![allow(missing_docs)] // criterion's macros generate undocumented public items
 
 use criterion::{BenchmarkId, Criterion, Throughput, criterion_group, criterion_main};
-use ratewell_proto::rule::{Direction, LogGrid, OutsidePolicy, RateTable, TableHeader, checked_location};
+use ratewell_proto::rule::{
+    Direction, LogGrid, OutsidePolicy, RateOutputs, RateTable, TableHeader, Threads, checked_location,
+    write_rows, write_tables_at,
+};
 use std::hint::black_box;
 use std::time::Duration;
 
@@ -63,15 +66,9 @@ fn batched(c: &mut Criterion) {
         ] {
             g.bench_with_input(BenchmarkId::new(name, n), &n, |b, _| {
                 b.iter(|| {
-                    t.evaluate_into(
-                        black_box(&temps),
-                        dir,
-                        OutsidePolicy::Refuse,
-                        &mut e,
-                        &mut d,
-                        &mut f,
-                    )
-                    .unwrap();
+                    let mut out = RateOutputs::new(dir, &mut e, &mut d, &mut f).unwrap();
+                    t.evaluate_into(black_box(&temps), OutsidePolicy::Refuse, &mut out)
+                        .unwrap();
                 })
             });
         }
@@ -96,8 +93,9 @@ fn located(c: &mut Criterion) {
     g.bench_function("200_tables_x_1000_temperatures", |b| {
         b.iter(|| {
             for t in &tables {
+                let mut out = RateOutputs::new(Direction::Deexcitation, &mut e, &mut d, &mut f).unwrap();
                 for (j, loc) in locs.iter().enumerate() {
-                    t.write_at(loc, Direction::Deexcitation, j, &mut e, &mut d, &mut f);
+                    t.write_at(loc, j, &mut out).unwrap();
                 }
                 black_box(&d);
             }
@@ -114,12 +112,27 @@ fn located(c: &mut Criterion) {
         g.bench_function(BenchmarkId::new(name, "200_tables_x_1000_temperatures"), |b| {
             b.iter(|| {
                 for t in &tables {
-                    t.write_located(&locs, dir, &mut e, &mut d, &mut f).unwrap();
+                    let mut out = RateOutputs::new(dir, &mut e, &mut d, &mut f).unwrap();
+                    t.write_located(&locs, &mut out).unwrap();
                     black_box(&d);
                 }
             })
         });
     }
+    g.finish();
+
+    let mut g = c.benchmark_group("rule/write_rows");
+    g.throughput(Throughput::Elements((tables.len() * n) as u64));
+    let rows: Vec<&RateTable> = tables.iter().collect();
+    let total = rows.len() * n;
+    let (mut re, mut rd, mut rf) = (vec![0.0; total], vec![0.0; total], vec![0u32; total]);
+    g.bench_function("both/200_tables_x_1000_temperatures", |b| {
+        b.iter(|| {
+            let mut out = RateOutputs::new(Direction::Both, &mut re, &mut rd, &mut rf).unwrap();
+            write_rows(&rows, &locs, Threads::Caller, &mut out).unwrap();
+            black_box(&rd);
+        })
+    });
     g.finish();
 
     let mut g = c.benchmark_group("rule/one_temperature");
@@ -130,6 +143,15 @@ fn located(c: &mut Criterion) {
             for t in &tables {
                 black_box(t.evaluate_at(black_box(&loc)));
             }
+        })
+    });
+    let count = tables.len();
+    let (mut te, mut td, mut tf) = (vec![0.0; count], vec![0.0; count], vec![0u32; count]);
+    g.bench_function("write_tables_at_200_tables", |b| {
+        b.iter(|| {
+            let mut out = RateOutputs::new(Direction::Both, &mut te, &mut td, &mut tf).unwrap();
+            write_tables_at(&tables, black_box(&loc), &mut out).unwrap();
+            black_box(&td);
         })
     });
     g.finish();

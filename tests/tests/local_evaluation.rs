@@ -55,15 +55,15 @@ async fn fetched_tables_evaluated_here_equal_server_lookups_bit_for_bit() {
             assert_eq!(Some(answer.transitions[t]), wire.key, "same transition order");
             let table = table_from_wire(wire, grid).expect("valid table");
             let (mut exc, mut deexc, mut flags) = (vec![0.0; n], vec![0.0; n], vec![0; n]);
+            let mut out = ratewell_proto::rule::RateOutputs::new(
+                ratewell_proto::rule::Direction::Both,
+                &mut exc,
+                &mut deexc,
+                &mut flags,
+            )
+            .expect("equal lengths");
             table
-                .evaluate_into(
-                    &temps,
-                    ratewell_proto::rule::Direction::Both,
-                    ratewell_proto::rule::OutsidePolicy::Refuse,
-                    &mut exc,
-                    &mut deexc,
-                    &mut flags,
-                )
+                .evaluate_into(&temps, ratewell_proto::rule::OutsidePolicy::Refuse, &mut out)
                 .expect("inside the grid");
             let span = t * n..(t + 1) * n;
             assert_eq!(

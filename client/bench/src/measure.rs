@@ -8,7 +8,7 @@ use ratewell_client::{
     RateQuery, TableGrid, Transition,
 };
 use ratewell_proto::constants::rate_prefactor_cm3_s_k_half;
-use ratewell_proto::rule::{Location, checked_location};
+use ratewell_proto::rule::{Location, RateOutputs, checked_location};
 use serde_json::{Value, json};
 use std::hint::black_box;
 use std::io::{BufRead, BufReader};
@@ -359,9 +359,8 @@ async fn measure_local_evaluation(server: &Server, work: &Path, quick: bool) -> 
             .zip(deexc.chunks_mut(EVAL_TEMPERATURES))
             .zip(flags.chunks_mut(EVAL_TEMPERATURES))
         {
-            table
-                .write_located(&locations, Direction::Deexcitation, &mut [], d, f)
-                .unwrap();
+            let mut out = RateOutputs::new(Direction::Deexcitation, &mut [], d, f).unwrap();
+            table.write_located(&locations, &mut out).unwrap();
         }
         black_box(&deexc);
     });
@@ -409,15 +408,9 @@ async fn measure_local_evaluation(server: &Server, work: &Path, quick: bool) -> 
         let (mut d, mut f) = (vec![0.0; n], vec![0u32; n]);
         let rule_s = best_of(reps.min(3), || {
             for _ in 0..calls {
+                let mut out = RateOutputs::new(Direction::Deexcitation, &mut [], &mut d, &mut f).unwrap();
                 table
-                    .evaluate_into(
-                        &temps_n,
-                        Direction::Deexcitation,
-                        OutsidePolicy::Refuse,
-                        &mut [],
-                        &mut d,
-                        &mut f,
-                    )
+                    .evaluate_into(&temps_n, OutsidePolicy::Refuse, &mut out)
                     .unwrap();
                 black_box(&d);
             }

@@ -11,7 +11,9 @@ use ratewell_proto::pb::admin_server::{Admin, AdminServer};
 use ratewell_proto::pb::catalogue_server::{Catalogue, CatalogueServer};
 use ratewell_proto::pb::populations_server::{Populations, PopulationsServer};
 use ratewell_proto::pb::rates_server::{Rates, RatesServer};
-use ratewell_proto::rule::{Direction, LogGrid, OutsidePolicy, RateTable, TableHeader, checked_location};
+use ratewell_proto::rule::{
+    Direction, LogGrid, OutsidePolicy, RateOutputs, RateTable, TableHeader, checked_location,
+};
 use ratewell_proto::wire::{grid_to_wire, table_to_wire};
 use std::net::SocketAddr;
 use std::pin::Pin;
@@ -225,8 +227,12 @@ impl Fake {
                 &mut de[span.clone()]
             };
             let f = &mut flags[span];
+            let mut out =
+                RateOutputs::new(direction, e, d, f).map_err(|err| Status::internal(err.to_string()))?;
             for (j, loc) in locations.iter().enumerate() {
-                table.write_at(loc, direction, j, e, d, f);
+                table
+                    .write_at(loc, j, &mut out)
+                    .map_err(|err| Status::internal(err.to_string()))?;
             }
         }
         if m3 {

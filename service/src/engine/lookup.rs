@@ -4,7 +4,7 @@
 use super::units::{RateUnit, TemperatureUnit};
 use super::{Engine, EngineError, GridSpec, Selector, Stamp};
 use ratewell_proto::rule::{
-    Direction, OutsidePolicy, RateTable, RuleError, checked_location, write_rows_parallel,
+    Direction, OutsidePolicy, RateOutputs, RateTable, RuleError, Threads, checked_location, write_rows,
 };
 
 /// A batched lookup.
@@ -128,13 +128,11 @@ impl Engine {
         let mut deexcitation = sized(dir.wants_deexcitation());
         let mut flags = vec![0u32; total];
         let rows: Vec<&RateTable> = positions.iter().map(|&p| &tables.tables[p]).collect();
-        write_rows_parallel(
+        write_rows(
             &rows,
             &locations,
-            dir,
-            &mut excitation,
-            &mut deexcitation,
-            &mut flags,
+            Threads::Pool,
+            &mut RateOutputs::new(dir, &mut excitation, &mut deexcitation, &mut flags)?,
         )?;
         if query.rate_unit == RateUnit::CubicMetrePerSecond {
             excitation

@@ -10,7 +10,7 @@ use crate::physics::emission::{PowerSummary, critical_densities_cm3, line_powers
 use crate::physics::populations::{CollisionalRate, PopulationWorkspace};
 use crate::tables::SpeciesTables;
 use ratewell_proto::rule::{
-    Direction, Location, OutsidePolicy, RuleError, checked_location, write_tables_at,
+    Direction, Location, OutsidePolicy, RateOutputs, RuleError, checked_location, write_tables_at,
 };
 use rayon::prelude::*;
 use std::sync::Arc;
@@ -369,10 +369,7 @@ fn solve_at_temperature(
     write_tables_at(
         &tables.tables,
         &work.location,
-        Direction::Both,
-        excitation,
-        deexcitation,
-        value_flags,
+        &mut RateOutputs::new(Direction::Both, excitation, deexcitation, value_flags)?,
     )?;
     let flags = value_flags.iter().fold(0u32, |a, &f| a | f);
     rates.clear();
