@@ -165,7 +165,7 @@ impl LocalTables {
 
     /// Evaluates many transitions (empty: every table) at many temperatures into `out`,
     /// transition-major (`value[t * n_temperatures + j]`). Each temperature is located once on
-    /// the shared grid; each table then writes its values with the rule's `write_at`.
+    /// the shared grid; the rule's `write_rows` then writes every table's row.
     ///
     /// ```no_run
     /// # fn demo(tables: &ratewell_client::LocalTables) -> Result<(), ratewell_client::ClientError> {
