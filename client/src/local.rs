@@ -48,7 +48,7 @@ impl LocalTables {
         )?;
         let mut tables = Vec::with_capacity(response.tables.len());
         let mut index = HashMap::with_capacity(response.tables.len());
-        for wire in &response.tables {
+        for wire in response.tables {
             let table = table_from_wire(wire, grid)?;
             let key = Transition {
                 upper: table.header().upper,

@@ -40,7 +40,7 @@ pub fn table_to_wire(table: &RateTable) -> pb::RateTable {
 }
 
 /// A table from its wire form on the response's grid.
-pub fn table_from_wire(table: &pb::RateTable, grid: LogGrid) -> Result<RateTable, RuleError> {
+pub fn table_from_wire(table: pb::RateTable, grid: LogGrid) -> Result<RateTable, RuleError> {
     let key = table.key.unwrap_or_default();
     let header = TableHeader {
         upper: key.upper,
@@ -52,11 +52,12 @@ pub fn table_from_wire(table: &pb::RateTable, grid: LogGrid) -> Result<RateTable
         source_t_max_k: table.source_t_max_k,
         approximate: table.approximate,
     };
+    // Knots and slopes move into the table (no copy: a large species is tens of megabytes).
     RateTable::from_parts(
         header,
         grid,
-        table.ln_upsilon.clone(),
-        table.slopes.clone(),
+        table.ln_upsilon,
+        table.slopes,
         table.max_interpolation_error,
     )
 }
@@ -84,7 +85,7 @@ mod tests {
             .unwrap()
             .with_max_interpolation_error(1e-5);
         let wire_grid = grid_from_wire(&grid_to_wire(&grid)).unwrap();
-        let back = table_from_wire(&table_to_wire(&table), wire_grid).unwrap();
+        let back = table_from_wire(table_to_wire(&table), wire_grid).unwrap();
         assert_eq!(back, table);
         for t in [1e3, 3.3e3, 1e4, 7.7e5, 1e7] {
             let a = table.evaluate(t, OutsidePolicy::Refuse).unwrap();

@@ -53,7 +53,7 @@ async fn fetched_tables_evaluated_here_equal_server_lookups_bit_for_bit() {
         let n = temps.len();
         for (t, wire) in fetched.tables.iter().enumerate() {
             assert_eq!(Some(answer.transitions[t]), wire.key, "same transition order");
-            let table = table_from_wire(wire, grid).expect("valid table");
+            let table = table_from_wire(wire.clone(), grid).expect("valid table");
             let (mut exc, mut deexc, mut flags) = (vec![0.0; n], vec![0.0; n], vec![0; n]);
             let mut out = ratewell_proto::rule::RateOutputs::new(
                 ratewell_proto::rule::Direction::Both,
