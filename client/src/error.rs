@@ -6,8 +6,9 @@ use std::time::Duration;
 /// Everything that can go wrong in a client call or a local evaluation.
 #[derive(Debug, thiserror::Error)]
 pub enum ClientError {
-    /// The server answered with a gRPC status other than OK.
-    #[error("{operation} at {endpoint}: server answered {code:?}: {message}")]
+    /// A call ended with a gRPC status other than OK: from the server, or from the transport
+    /// when no server answered (then the message says so and names the address tried).
+    #[error("{operation} at {endpoint}: {code:?}: {message}")]
     Status {
         /// Which call failed (e.g. "LookupRates").
         operation: &'static str,
@@ -155,11 +156,23 @@ impl ClientError {
 
     /// A status from a call, kept with the call's name.
     pub(crate) fn from_status(operation: &'static str, endpoint: &str, status: &tonic::Status) -> Self {
+        let message = if status.code() == tonic::Code::Unavailable
+            && status.message().starts_with("tcp connect error")
+        {
+            // The transport's own status: nothing listens there (or it cannot be reached).
+            format!(
+                "no server answers at {endpoint} ({}); start one there (ratewell-server --listen \
+                 HOST:PORT) or point --server / RATEWELL_SERVER at a running one",
+                status.message()
+            )
+        } else {
+            status.message().to_string()
+        };
         ClientError::Status {
             operation,
             endpoint: endpoint.to_string(),
             code: status.code(),
-            message: status.message().to_string(),
+            message,
         }
     }
 }

@@ -15,7 +15,7 @@ Exit status: 0 success; 1 the server or the connection failed; 2 bad arguments;
 /// Ask a ratewell server for electron-impact rate coefficients, level populations and
 /// dataset comparisons. Every answer names the dataset id, version and content hash.
 #[derive(Debug, Parser)]
-#[command(name = "ratewell", disable_version_flag = true, after_help = EXIT_CODES)]
+#[command(name = "ratewell", version, after_help = EXIT_CODES)]
 pub(crate) struct Cli {
     /// Server address; several, comma-separated, for failover.
     #[arg(
@@ -30,7 +30,7 @@ pub(crate) struct Cli {
     #[arg(long, global = true)]
     pub(crate) dataset: Option<String>,
     /// Dataset version (default: the newest loaded).
-    #[arg(long = "version", global = true, value_name = "VERSION")]
+    #[arg(long, global = true, value_name = "VERSION")]
     pub(crate) dataset_version: Option<String>,
     /// Refuse any answer whose dataset content hash differs (64 hex digits).
     #[arg(long, global = true, value_name = "HASH")]
@@ -235,12 +235,21 @@ mod tests {
         Cli::try_parse_from(std::iter::once("ratewell").chain(args.iter().copied()))
     }
 
+    // --version is the tool's own version (common practice, no source); the dataset's version
+    // has its own flag.
+    #[test]
+    fn version_flag_prints_the_tool_version() {
+        let e = parse(&["--version"]).unwrap_err();
+        assert_eq!(e.kind(), clap::error::ErrorKind::DisplayVersion);
+        assert!(e.to_string().contains(env!("CARGO_PKG_VERSION")), "{e}");
+    }
+
     #[test]
     fn rates_arguments_parse() {
         let cli = parse(&[
             "--dataset",
             "demo",
-            "--version",
+            "--dataset-version",
             "1.0.0",
             "rates",
             "X",

@@ -192,9 +192,14 @@ fn export_health_species_and_populations_run() {
 
 #[test]
 fn a_dead_server_is_a_clear_failure() {
-    let out = ratewell(&common::dead_address(), &["--timeout", "2", "health"]);
+    let dead = common::dead_address();
+    let out = ratewell(&dead, &["--timeout", "2", "health"]);
     assert_eq!(out.status.code(), Some(1));
-    assert!(text(&out.stderr).contains("not serving"), "{}", text(&out.stderr));
+    let err = text(&out.stderr);
+    assert!(err.contains("not serving"), "{err}");
+    // Said as what it is, with the address tried and a hint.
+    assert!(err.contains(&format!("no server answers at {dead}")), "{err}");
+    assert!(err.contains("ratewell-server --listen"), "{err}");
 }
 
 #[test]
