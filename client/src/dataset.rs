@@ -213,7 +213,7 @@ impl FromStr for DatasetRef {
 mod tests {
     use super::*;
 
-    // Content-hash pinning as the contract states it (DESIGN.md "The contract": a client can pin
+    // Content-hash pinning as the contract states it (the contract: a client can pin
     // a hash and refuses a server that differs); hashes here are invented.
     const H1: &str = "1111111111111111111111111111111111111111111111111111111111111111";
     const H2: &str = "2222222222222222222222222222222222222222222222222222222222222222";

@@ -374,7 +374,7 @@ pub(crate) mod tests {
         (0..97).map(|i| 1.0e3 * 10f64.powf(i as f64 * 0.031)).collect()
     }
 
-    // The contract (DESIGN.md "One evaluation rule"): batched local values equal the rule's
+    // The contract (one evaluation rule): batched local values equal the rule's
     // scalar evaluation of the same table bit for bit, in the server's transition-major layout.
     #[test]
     fn batched_evaluation_is_the_rule_bit_for_bit() {

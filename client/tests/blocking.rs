@@ -14,7 +14,7 @@ fn the_blocking_client_answers_like_the_async_one() {
     let tables = client.fetch_tables("X", None).unwrap();
     let remote = client.lookup_rates(&RateQuery::new("X", vec![5e3, 1e4])).unwrap();
     let local = tables.evaluate(&RateQuery::new("X", vec![5e3, 1e4])).unwrap();
-    // One evaluation rule (DESIGN.md): equal bit for bit.
+    // One evaluation rule for server and client: equal bit for bit.
     assert_eq!(remote.deexcitation, local.deexcitation);
     let v = tables.rate(2, 1, 1e4, OutsidePolicy::Refuse).unwrap();
     assert_eq!(v.deexcitation_cm3_s.to_bits(), local.deexcitation[1].to_bits());

@@ -19,7 +19,7 @@ fn temperatures_ev() -> Vec<f64> {
     (0..50).map(|i| 0.1 * 10f64.powf(i as f64 * 0.045)).collect()
 }
 
-// The contract (DESIGN.md "One evaluation rule"): a lookup answered by the server and one
+// The contract (one evaluation rule): a lookup answered by the server and one
 // evaluated locally from the same table agree bit for bit.
 #[tokio::test]
 async fn local_and_remote_answers_agree_bit_for_bit() {

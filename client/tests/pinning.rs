@@ -1,4 +1,4 @@
-//! Content-hash pinning against the in-test fake server (DESIGN.md "The contract": every
+//! Content-hash pinning against the in-test fake server (the contract: every
 //! answer names dataset id, version and hash; a client can pin a hash and refuses a server
 //! that differs). Hashes are invented.
 

@@ -383,7 +383,7 @@ mod tests {
             .collect()
     }
 
-    // The contract's bit-for-bit rule (DESIGN.md "One evaluation rule"): the check counts a
+    // The contract's bit-for-bit rule (one evaluation rule for server and client): the check counts a
     // difference of one unit in the last place, matches rows by transition, not position, and
     // counts a transition missing from one side.
     #[test]

@@ -194,7 +194,7 @@ async fn emissivities_and_critical_densities_follow_from_populations_and_rates()
             .iter()
             .find(|t| t.key == Some(k))
             .expect("a catalogued radiative transition");
-        // Emissivity per ion of line u -> l: n_u A_ul h nu (DESIGN.md; Osterbrock & Ferland
+        // Emissivity per ion of line u -> l: n_u A_ul h nu (Osterbrock & Ferland
         // 2006, chapter 3, from memory), with h nu = h c / lambda (CODATA 2018).
         let expected = point.fractions[k.upper as usize - 1]
             * info.a_per_s
@@ -222,7 +222,7 @@ async fn emissivities_and_critical_densities_follow_from_populations_and_rates()
     );
 
     // Critical density n_c(j) = sum_k A_jk / sum_k q_jk over every collisional way out of j,
-    // up and down (DESIGN.md; Osterbrock & Ferland 2006, section 3.5, from memory), from a rate lookup.
+    // up and down (Osterbrock & Ferland 2006, section 3.5, from memory), from a rate lookup.
     let rates = server
         .rates()
         .lookup_rates(lookup(MK_III, vec![t_k]))

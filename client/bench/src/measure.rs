@@ -21,7 +21,7 @@ use tonic::transport::{Channel, Endpoint};
 /// Boxed error for the driver (messages go to the terminal).
 pub(crate) type Failure = Box<dyn std::error::Error + Send + Sync>;
 
-/// Tables and temperatures of the evaluation comparison (issue 4: 2,000 tables of 64 knots at
+/// Tables and temperatures of the evaluation comparison (2,000 tables of 64 knots at
 /// 10,000 temperatures).
 const EVAL_TABLES: usize = 2000;
 const EVAL_TEMPERATURES: usize = 10_000;

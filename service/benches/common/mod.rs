@@ -15,7 +15,7 @@ pub(crate) fn dataset(id: &str, level_counts: &[usize]) -> Dataset {
     load_dataset_from_texts(&refs).expect("the invented benchmark dataset loads")
 }
 
-/// The precompute grid: 1e3 to 1e8 K at 20 points per decade (101 knots).
+/// The benchmark precompute grid: 1e3 to 1e8 K at 20 points per decade (101 knots).
 pub(crate) const PRECOMPUTE_GRID: GridSpec = GridSpec {
     t_min_k: 1e3,
     t_max_k: 1e8,

@@ -122,7 +122,7 @@ fn load(files: &[(String, String)]) -> Result<Dataset, Failure> {
     Ok(load_dataset_from_texts(&refs)?)
 }
 
-/// Loading (parse, validate, hash) and table building for the large dataset on the issue's
+/// Loading (parse, validate, hash) and table building for the large dataset on the benchmark
 /// grid, 1e3-1e8 K at 20 points per decade; the best of `reps` builds.
 fn measure_precompute(files: &[(String, String)], reps: usize) -> Result<Value, Failure> {
     let started = Instant::now();
