@@ -21,6 +21,7 @@ pub use registry::{LoadedDataset, Registry, Selector, SolveInputs, Stamp};
 
 use crate::dataset::{self, Dataset};
 use crate::physics::PhysicsError;
+use crate::physics::elementary::log10;
 use crate::physics::emission::line_terms;
 use crate::physics::populations::RadiativeRate;
 use crate::tables::{SpeciesTables, TableCache, TableKey, build_species_tables};
@@ -42,13 +43,18 @@ pub struct GridSpec {
 }
 
 impl GridSpec {
-    /// The uniform log grid this spec describes.
+    /// The uniform log grid this spec describes: the evaluation rule's `LogGrid::from_range`
+    /// (which also checks the spec and names what is wrong), with log10 taken by
+    /// [`crate::physics::elementary::log10`] so the grid, and every table built on it, has the
+    /// same bits on every platform.
     pub fn to_grid(self) -> Result<LogGrid, EngineError> {
-        Ok(LogGrid::from_range(
-            self.t_min_k,
-            self.t_max_k,
-            self.points_per_decade,
-        )?)
+        let checked = LogGrid::from_range(self.t_min_k, self.t_max_k, self.points_per_decade)?;
+        let step = checked.log10_t_step();
+        let log10_t_min_k = log10(self.t_min_k);
+        let decades = log10(self.t_max_k) - log10_t_min_k;
+        // The knot count rule of from_range: the first knot at or above t_max_k.
+        let intervals = (decades / step - 1e-9).ceil().max(1.0);
+        Ok(LogGrid::new(log10_t_min_k, step, intervals as usize + 1)?)
     }
 }
 

@@ -6,6 +6,7 @@
 //! interpolant never leaves the range of its two end values: no overshoot, and positive data
 //! give a positive interpolant.
 
+use super::elementary::exp;
 use super::error::{PhysicsError, require_same_len};
 
 /// A PCHIP interpolant through points (x_i, y_i) with strictly increasing x.
@@ -85,7 +86,7 @@ impl Pchip {
         };
         let (y_end, m_end) = (self.y[end], self.slopes[end]);
         if y_end > 0.0 {
-            y_end * ((m_end / y_end) * (x - self.x[end])).exp()
+            y_end * exp((m_end / y_end) * (x - self.x[end]))
         } else {
             y_end
         }

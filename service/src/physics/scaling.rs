@@ -26,6 +26,7 @@
 //! growth (types 1, 4), constant (type 2), 1/(u + 1) fall (type 3). Our choice.
 
 use super::constants::KELVIN_PER_RYDBERG;
+use super::elementary::{exp_m1, ln, ln_1p};
 use super::error::{
     PhysicsError, require_increasing, require_non_negative, require_positive, require_same_len,
 };
@@ -93,7 +94,7 @@ impl BurgessTullyScaling {
         let u = t_k / self.delta_e_k;
         Ok(if self.kind.is_dipole_allowed() {
             // 1 - ln C / ln(u + C) written as ln(1 + u/C) / ln(u + C): no cancellation at small u
-            (u / self.c).ln_1p() / (u + self.c).ln()
+            ln_1p(u / self.c) / ln(u + self.c)
         } else {
             u / (u + self.c)
         })
@@ -111,7 +112,7 @@ impl BurgessTullyScaling {
         }
         let u = if self.kind.is_dipole_allowed() {
             // ln(u + C) = ln C / (1 - x)  =>  u = C (exp(ln C x / (1 - x)) - 1)
-            self.c * (self.c.ln() * x / (1.0 - x)).exp_m1()
+            self.c * exp_m1(ln(self.c) * x / (1.0 - x))
         } else {
             self.c * x / (1.0 - x)
         };
@@ -123,10 +124,10 @@ impl BurgessTullyScaling {
     fn upsilon_factor(&self, t_k: f64) -> f64 {
         let u = t_k / self.delta_e_k;
         match self.kind {
-            TransitionType::Allowed => (u + std::f64::consts::E).ln(),
+            TransitionType::Allowed => ln(u + std::f64::consts::E),
             TransitionType::Forbidden => 1.0,
             TransitionType::SpinChange => 1.0 / (u + 1.0),
-            TransitionType::WeakAllowed => (u + self.c).ln(),
+            TransitionType::WeakAllowed => ln(u + self.c),
         }
     }
 
