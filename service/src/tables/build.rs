@@ -1,18 +1,37 @@
-//! Building one rate table from a source of effective collision strengths, and measuring its
-//! interpolation error against that source.
+//! Building one rate table from a source of effective collision strengths, and bounding its
+//! interpolation error against that source ([`super::error_bound`]).
+//!
+//! Every temperature the build evaluates the source at is 10^(log10 T_min + position x step)
+//! computed with [`crate::physics::elementary::exp10`], so the table's bits do not depend on
+//! the platform's maths library.
 
 use super::TableError;
-use ratewell_proto::rule::{LogGrid, RateTable, Side, TableHeader};
+use super::error_bound::{
+    DENSE_DIVISIONS, MODEL_FRACTIONS, dense_interval_bound, model_interval_bound, relative_error_bound,
+};
+use crate::physics::elementary::{exp10, ln, log10};
+use ratewell_proto::rule::{LogGrid, RateTable, TableHeader};
 
 /// Direct evaluation of a transition's effective collision strength from its source data.
 pub trait UpsilonSource: Sync {
     /// Upsilon at `t_k` (K), evaluated from the source data without tabulation.
     fn upsilon(&self, t_k: f64) -> Result<f64, TableError>;
+
+    /// Temperatures (K, increasing) at which the source's second derivative in T may jump,
+    /// such as the nodes of a piecewise interpolant; none for an analytic source.
+    fn breakpoints_k(&self) -> &[f64] {
+        &[]
+    }
+}
+
+/// Temperature (K) at `position` steps from the first knot of `grid` (knot i at position i).
+pub fn grid_temperature_k(grid: &LogGrid, position: f64) -> f64 {
+    exp10(grid.log10_t_min_k() + position * grid.log10_t_step())
 }
 
 /// Tabulates `source` on `grid` (ln Upsilon at the knots), builds the shape-preserving table and
-/// records its largest relative error against the source at the midpoints (in log T) of every
-/// grid interval, where interpolation error is largest.
+/// records a bound on its relative error against the source over the whole grid
+/// ([`super::error_bound`] says how it is measured).
 pub fn build_table(
     header: TableHeader,
     grid: LogGrid,
@@ -21,25 +40,63 @@ pub fn build_table(
     let (upper, lower) = (header.upper, header.lower);
     let mut ln_upsilon = Vec::with_capacity(grid.knots());
     for i in 0..grid.knots() {
-        let t_k = grid.temperature_k(i);
+        let t_k = grid_temperature_k(&grid, i as f64);
         ln_upsilon.push(positive_ln(source.upsilon(t_k)?, upper, lower, t_k)?);
     }
     let table = RateTable::from_knots(header, grid, ln_upsilon)?;
-    let mut max_error: f64 = 0.0;
+    let breaks = breakpoint_intervals(&grid, source.breakpoints_k());
+    let mut max_log_error: f64 = 0.0;
     for i in 0..grid.knots() - 1 {
-        let t_k = grid.midpoint_k(i);
-        let direct = source.upsilon(t_k)?;
-        let loc = grid.locate(t_k);
-        debug_assert_eq!(loc.side, Side::Inside);
-        let tabulated = table.ln_upsilon_at(&loc).exp();
-        max_error = max_error.max(((tabulated - direct) / direct).abs());
+        let log_error = |frac: f64| -> Result<f64, TableError> {
+            let t_k = grid_temperature_k(&grid, i as f64 + frac);
+            let direct = positive_ln(source.upsilon(t_k)?, upper, lower, t_k)?;
+            Ok(table.ln_upsilon_at(&grid.locate(t_k)) - direct)
+        };
+        let bound = if breaks.binary_search(&i).is_ok() {
+            let mut d = [0.0; DENSE_DIVISIONS - 1];
+            for (k, v) in d.iter_mut().enumerate() {
+                *v = log_error((k + 1) as f64 / DENSE_DIVISIONS as f64)?;
+            }
+            dense_interval_bound(&d)
+        } else {
+            let mut d = [0.0; 3];
+            for (v, &frac) in d.iter_mut().zip(&MODEL_FRACTIONS) {
+                *v = log_error(frac)?;
+            }
+            model_interval_bound(d)
+        };
+        max_log_error = max_log_error.max(bound);
     }
-    Ok(table.with_max_interpolation_error(max_error))
+    let max_abs_ln = table.ln_upsilon().iter().fold(0.0f64, |m, v| m.max(v.abs()));
+    Ok(table.with_max_interpolation_error(relative_error_bound(max_log_error, max_abs_ln)))
+}
+
+/// Sorted indices of the grid intervals that hold a breakpoint (or touch one at a knot).
+fn breakpoint_intervals(grid: &LogGrid, breakpoints_k: &[f64]) -> Vec<usize> {
+    let last = grid.knots() - 2;
+    let mut out: Vec<usize> = Vec::new();
+    for &t in breakpoints_k {
+        if !(t.is_finite() && t > 0.0) {
+            continue;
+        }
+        let position = (log10(t) - grid.log10_t_min_k()) / grid.log10_t_step();
+        if !(position > -1e-6 && position < (last + 1) as f64 + 1e-6) {
+            continue;
+        }
+        // The interval holding it, and its neighbour when it sits within rounding of a knot.
+        let below = (position - 1e-6).floor().clamp(0.0, last as f64) as usize;
+        let above = (position + 1e-6).floor().clamp(0.0, last as f64) as usize;
+        out.push(below);
+        out.push(above);
+    }
+    out.sort_unstable();
+    out.dedup();
+    out
 }
 
 fn positive_ln(upsilon: f64, upper: u32, lower: u32, t_k: f64) -> Result<f64, TableError> {
     if upsilon.is_finite() && upsilon > 0.0 {
-        Ok(upsilon.ln())
+        Ok(ln(upsilon))
     } else {
         Err(TableError::NonPositiveUpsilon {
             upper,

@@ -1,18 +1,23 @@
 //! Rate tables: precomputed from a dataset's collision data on uniform log-T grids, each
 //! carrying its measured interpolation error, and cached by dataset hash, species and grid.
 //!
-//! - [`build`]: one table from an Upsilon source, with its error measured at grid midpoints.
+//! - [`build`]: one table from an Upsilon source, with a bound on its interpolation error.
+//! - [`error_bound`]: where that error is measured and how it becomes a bound.
+//! - [`source_range`]: the one definition of a transition's source temperature range.
 //! - [`sources`]: a dataset transition turned into an Upsilon source through the physics layer.
 //! - [`species`]: all tables of one species on one grid, indexed by transition.
 //! - [`cache`]: the concurrent table cache.
 
 pub mod build;
 pub mod cache;
+pub mod error_bound;
+pub mod source_range;
 pub mod sources;
 pub mod species;
 
 pub use build::{UpsilonSource, build_table};
 pub use cache::{TableCache, TableKey};
+pub use source_range::source_range_k;
 pub use species::SpeciesTables;
 
 use crate::dataset::Species;
