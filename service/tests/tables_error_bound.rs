@@ -72,6 +72,11 @@ fn check_species(species: &Species) -> Vec<(String, f64, f64)> {
                 bound >= dense,
                 "{what}: served bound {bound:.3e} below the dense-sampling error {dense:.3e}"
             );
+            // ... and means something: within 10 % of it (plus the rounding allowance).
+            assert!(
+                bound <= 1.1 * dense + 1e-13,
+                "{what}: served bound {bound:.3e} far above the dense-sampling error {dense:.3e}"
+            );
             (what, dense, bound)
         })
         .collect()
@@ -126,5 +131,58 @@ fn bounds_cover_dense_sampling_for_every_form_and_type() {
     }
     for r in &rows {
         eprintln!("  {}: dense {:.3e}, bound {:.3e}", r.0, r.1, r.2);
+    }
+}
+
+#[test]
+fn closed_form_averages_are_reproduced_by_source_and_table() {
+    // Constant Omega averages to the same constant; Omega = a + b E_f up to E_N and constant
+    // beyond averages to a + b kT (1 - e^(-E_N/kT)) (common::linear_omega_average, derived
+    // there). Both are forbidden-type tables from threshold in the synthetic species.
+    let synthetic = common::synthetic_dataset();
+    let species = &synthetic.species[0];
+    let grid = EngineConfig::default()
+        .default_grid
+        .to_grid()
+        .expect("default grid");
+    let tables = build_species_tables(species, grid).expect("tables build");
+    let range = (grid.t_min_k(), grid.t_max_k());
+    let cases: [(common::Shape, fn(f64) -> f64); 2] = [
+        (common::Shape::ConstantOmegaFromThreshold, |_| {
+            common::CONSTANT_OMEGA
+        }),
+        (
+            common::Shape::LinearOmegaFromThreshold,
+            common::linear_omega_average,
+        ),
+    ];
+    for (shape, exact) in cases {
+        let (upper, lower) = common::pair_of(shape, "forbidden").expect("the block");
+        let transition = species
+            .collisional_transition(upper, lower)
+            .expect("the transition");
+        let source = transition_source(species, transition, range).expect("source");
+        let table = tables.get(upper, lower).expect("table");
+        let bound = table.max_interpolation_error();
+        for i in 0..grid.knots() - 1 {
+            for k in 0..DENSE_POINTS {
+                let t_k = grid_temperature_k(&grid, i as f64 + (k as f64 + 0.5) / DENSE_POINTS as f64);
+                let want = exact(t_k);
+                let direct = source.source.upsilon(t_k).expect("direct");
+                // The average of a piecewise-linear Omega is exact: a few roundings per segment.
+                assert!(
+                    ((direct - want) / want).abs() < 1e-13,
+                    "{shape:?} at {t_k} K: {direct} vs {want}"
+                );
+                let served = table
+                    .evaluate(t_k, OutsidePolicy::Refuse)
+                    .expect("inside")
+                    .upsilon;
+                assert!(
+                    ((served - want) / want).abs() <= bound + 1e-13,
+                    "{shape:?} at {t_k} K"
+                );
+            }
+        }
     }
 }

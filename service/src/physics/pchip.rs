@@ -71,6 +71,11 @@ impl Pchip {
         (self.x[0], self.x[self.x.len() - 1])
     }
 
+    /// The node slopes at the first and last point.
+    pub fn end_slopes(&self) -> (f64, f64) {
+        (self.slopes[0], self.slopes[self.slopes.len() - 1])
+    }
+
     /// The interpolant at `x`; outside the data range a positive end value is continued as
     /// y_end exp((m_end / y_end)(x - x_end)), which matches the end value and slope (so the
     /// curve stays continuously differentiable, with no kink for a table to smooth over) and

@@ -2,6 +2,7 @@
 //! built from shapes whose Maxwellian averages have closed forms.
 #![allow(dead_code, unreachable_pub)]
 
+use ratewell_service::dataset::units::cm1_to_ry;
 use ratewell_service::dataset::{Dataset, load_dataset_from_texts};
 use ratewell_service::physics::constants::KELVIN_PER_RYDBERG;
 
@@ -46,6 +47,10 @@ pub enum Shape {
     LinearOmegaFromThreshold,
     /// Omega = a + b E_f given on incident energies from just above threshold.
     LinearOmegaIncident,
+    /// Omega from threshold at two points only (scattered energies 0 and 0.2 Ry).
+    TwoPointsFromThreshold,
+    /// Omega on incident energies starting exactly at the transition energy.
+    IncidentFromThreshold,
     /// Van Regemorter estimate.
     VanRegemorter,
     /// Semi-classical estimate.
@@ -65,6 +70,8 @@ pub fn blocks() -> Vec<(Shape, &'static str)> {
     }
     out.push((Shape::VanRegemorter, "allowed"));
     out.push((Shape::VanRegemorter, "weak-allowed"));
+    out.push((Shape::TwoPointsFromThreshold, "forbidden"));
+    out.push((Shape::IncidentFromThreshold, "spin-change"));
     out
 }
 
@@ -78,6 +85,15 @@ pub fn pairs() -> Vec<(u32, u32)> {
         }
     }
     out
+}
+
+/// The level pair (upper, lower) that holds `shape` of type `kind`.
+pub fn pair_of(shape: Shape, kind: &str) -> Option<(u32, u32)> {
+    blocks()
+        .into_iter()
+        .zip(pairs())
+        .find(|((s, k), _)| *s == shape && *k == kind)
+        .map(|(_, pair)| pair)
 }
 
 /// The synthetic dataset "synthetic" with species "Sy II".
@@ -167,6 +183,18 @@ pub fn synthetic_species_text() -> String {
                     "energies = {}\nenergy_kind = \"incident\"\nomega = {}\n",
                     list(&incident),
                     list(&omega)
+                );
+            }
+            Shape::TwoPointsFromThreshold => {
+                t += "energies = [0.0, 0.2]\nenergy_kind = \"scattered\"\nomega = [0.5, 0.6]\n";
+            }
+            Shape::IncidentFromThreshold => {
+                // The loader subtracts the same threshold (cm1_to_ry of the level energies), so
+                // the first scattered energy is exactly 0.
+                let de_ry = cm1_to_ry(LEVELS_CM1[upper as usize - 1] - LEVELS_CM1[lower as usize - 1]);
+                t += &format!(
+                    "energies = {}\nenergy_kind = \"incident\"\nomega = [0.9, 0.8, 0.5]\n",
+                    list(&[de_ry, de_ry + 0.3, de_ry + 1.0])
                 );
             }
             Shape::VanRegemorter => t += "estimate = \"van-regemorter\"\n",
