@@ -147,7 +147,8 @@ fn closed_form_averages_are_reproduced_by_source_and_table() {
         .expect("default grid");
     let tables = build_species_tables(species, grid).expect("tables build");
     let range = (grid.t_min_k(), grid.t_max_k());
-    let cases: [(common::Shape, fn(f64) -> f64); 2] = [
+    type ClosedForm = fn(f64) -> f64;
+    let cases: [(common::Shape, ClosedForm); 2] = [
         (common::Shape::ConstantOmegaFromThreshold, |_| {
             common::CONSTANT_OMEGA
         }),

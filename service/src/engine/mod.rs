@@ -3,6 +3,7 @@
 //! (no tonic, no wire messages). Handlers convert, call one method here, and convert back.
 //!
 //! - [`registry`]: loaded datasets by id and version, swapped in atomically.
+//! - [`folders`]: the last load outcome of each data-folder entry.
 //! - [`lookup`]: batched rate-coefficient lookups.
 //! - [`solve`]: population solves over lists or grids of (Te, ne), in parallel.
 //! - [`compare`]: consistency comparison of two datasets.
@@ -11,12 +12,14 @@
 
 pub mod compare;
 pub mod error;
+pub mod folders;
 pub mod lookup;
 pub mod registry;
 pub mod solve;
 pub mod units;
 
 pub use error::EngineError;
+pub use folders::{FolderOutcome, FolderRecord};
 pub use registry::{LoadedDataset, Registry, Selector, SolveInputs, Stamp};
 
 use crate::dataset::{self, Dataset};
@@ -108,6 +111,9 @@ pub struct LoadReport {
     pub precompute_seconds: f64,
 }
 
+/// One folder of the data folder and how loading it went.
+pub type FolderLoad = (String, Result<LoadReport, EngineError>);
+
 /// The shared core. Cheap to clone.
 #[derive(Clone)]
 pub struct Engine {
@@ -118,6 +124,7 @@ struct Inner {
     config: EngineConfig,
     registry: Registry,
     cache: TableCache,
+    folders: FolderRecord,
 }
 
 impl Engine {
@@ -129,6 +136,7 @@ impl Engine {
                 config,
                 registry: Registry::default(),
                 cache,
+                folders: FolderRecord::default(),
             }),
         }
     }
@@ -209,9 +217,45 @@ impl Engine {
         self.install(dataset::load_folder(path)?)
     }
 
-    /// Loads folder `name` under the configured data folder. `name` must be a plain folder
-    /// name (no separators, no `..`).
+    /// Loads every dataset folder of the configured data folder (each sub-folder holding a
+    /// `dataset.toml`, by name), recording each outcome ([`Self::folder_outcomes`]). A folder
+    /// that fails is refused on its own: the others load. Errs only when the data folder itself
+    /// cannot be read; without a data folder there is nothing to load.
+    pub fn load_data_folder(&self) -> Result<Vec<FolderLoad>, EngineError> {
+        let Some(root) = &self.inner.config.data_dir else {
+            return Ok(Vec::new());
+        };
+        let mut outcomes = Vec::new();
+        for path in dataset::find_dataset_dirs(root)? {
+            let name = path
+                .file_name()
+                .map(|n| n.to_string_lossy().into_owned())
+                .unwrap_or_else(|| path.display().to_string());
+            let result = self.load_folder(&name);
+            outcomes.push((name, result));
+        }
+        Ok(outcomes)
+    }
+
+    /// The last load outcome of every data-folder entry loaded by name so far.
+    pub fn folder_outcomes(&self) -> Vec<(String, FolderOutcome)> {
+        self.inner.folders.all()
+    }
+
+    /// Loads folder `name` under the configured data folder and records the outcome. `name`
+    /// must be a plain folder name (no separators, no `..`).
     pub fn load_folder(&self, name: &str) -> Result<LoadReport, EngineError> {
+        let result = self.load_folder_unrecorded(name);
+        match &result {
+            Ok(report) => self.inner.folders.loaded(name, report.stamp.label()),
+            Err(EngineError::InvalidArgument { .. }) => {}
+            Err(EngineError::Load(e)) => self.inner.folders.refused(name, e.to_string()),
+            Err(e) => self.inner.folders.refused(name, e.to_string()),
+        }
+        result
+    }
+
+    fn load_folder_unrecorded(&self, name: &str) -> Result<LoadReport, EngineError> {
         let Some(root) = &self.inner.config.data_dir else {
             return Err(EngineError::invalid(
                 "folder",
