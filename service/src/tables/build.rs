@@ -10,7 +10,7 @@ use super::error_bound::{
     DENSE_DIVISIONS, MODEL_FRACTIONS, dense_interval_bound, model_interval_bound, relative_error_bound,
 };
 use crate::physics::elementary::{exp10, ln, log10};
-use ratewell_proto::rule::{LogGrid, RateTable, TableHeader};
+use ratewell_proto::rule::{Location, LogGrid, RateTable, TableHeader};
 
 /// Direct evaluation of a transition's effective collision strength from its source data.
 pub trait UpsilonSource: Sync {
@@ -29,6 +29,39 @@ pub fn grid_temperature_k(grid: &LogGrid, position: f64) -> f64 {
     exp10(grid.log10_t_min_k() + position * grid.log10_t_step())
 }
 
+/// The temperatures every table on one grid is evaluated at, located once for all of them:
+/// the knots, and [`MODEL_FRACTIONS`] of every interval.
+#[derive(Debug, Clone)]
+pub struct GridSamples {
+    grid: LogGrid,
+    knots_k: Vec<f64>,
+    /// Per interval, the model fractions' temperatures and locations.
+    model: Vec<[(f64, Location); 3]>,
+}
+
+impl GridSamples {
+    /// The samples of `grid`.
+    pub fn new(grid: LogGrid) -> Self {
+        let knots_k = (0..grid.knots())
+            .map(|i| grid_temperature_k(&grid, i as f64))
+            .collect();
+        let model = (0..grid.knots() - 1)
+            .map(|i| {
+                MODEL_FRACTIONS.map(|frac| {
+                    let t_k = grid_temperature_k(&grid, i as f64 + frac);
+                    (t_k, grid.locate(t_k))
+                })
+            })
+            .collect();
+        Self { grid, knots_k, model }
+    }
+
+    /// The grid.
+    pub fn grid(&self) -> LogGrid {
+        self.grid
+    }
+}
+
 /// Tabulates `source` on `grid` (ln Upsilon at the knots), builds the shape-preserving table and
 /// records a bound on its relative error against the source over the whole grid
 /// ([`super::error_bound`] says how it is measured).
@@ -37,31 +70,41 @@ pub fn build_table(
     grid: LogGrid,
     source: &dyn UpsilonSource,
 ) -> Result<RateTable, TableError> {
+    build_table_on(&GridSamples::new(grid), header, source)
+}
+
+/// [`build_table`] with the grid's sample temperatures worked out beforehand (shared by every
+/// table of a species).
+pub fn build_table_on(
+    samples: &GridSamples,
+    header: TableHeader,
+    source: &dyn UpsilonSource,
+) -> Result<RateTable, TableError> {
+    let grid = samples.grid;
     let (upper, lower) = (header.upper, header.lower);
     let mut ln_upsilon = Vec::with_capacity(grid.knots());
-    for i in 0..grid.knots() {
-        let t_k = grid_temperature_k(&grid, i as f64);
+    for &t_k in &samples.knots_k {
         ln_upsilon.push(positive_ln(source.upsilon(t_k)?, upper, lower, t_k)?);
     }
     let table = RateTable::from_knots(header, grid, ln_upsilon)?;
+    let log_error = |t_k: f64, loc: &Location| -> Result<f64, TableError> {
+        let direct = positive_ln(source.upsilon(t_k)?, upper, lower, t_k)?;
+        Ok(table.ln_upsilon_at(loc) - direct)
+    };
     let breaks = breakpoint_intervals(&grid, source.breakpoints_k());
     let mut max_log_error: f64 = 0.0;
-    for i in 0..grid.knots() - 1 {
-        let log_error = |frac: f64| -> Result<f64, TableError> {
-            let t_k = grid_temperature_k(&grid, i as f64 + frac);
-            let direct = positive_ln(source.upsilon(t_k)?, upper, lower, t_k)?;
-            Ok(table.ln_upsilon_at(&grid.locate(t_k)) - direct)
-        };
+    for (i, model) in samples.model.iter().enumerate() {
         let bound = if breaks.binary_search(&i).is_ok() {
             let mut d = [0.0; DENSE_DIVISIONS - 1];
             for (k, v) in d.iter_mut().enumerate() {
-                *v = log_error((k + 1) as f64 / DENSE_DIVISIONS as f64)?;
+                let t_k = grid_temperature_k(&grid, i as f64 + (k + 1) as f64 / DENSE_DIVISIONS as f64);
+                *v = log_error(t_k, &grid.locate(t_k))?;
             }
             dense_interval_bound(&d)
         } else {
             let mut d = [0.0; 3];
-            for (v, &frac) in d.iter_mut().zip(&MODEL_FRACTIONS) {
-                *v = log_error(frac)?;
+            for (v, (t_k, loc)) in d.iter_mut().zip(model) {
+                *v = log_error(*t_k, loc)?;
             }
             model_interval_bound(d)
         };
@@ -71,23 +114,22 @@ pub fn build_table(
     Ok(table.with_max_interpolation_error(relative_error_bound(max_log_error, max_abs_ln)))
 }
 
-/// Sorted indices of the grid intervals that hold a breakpoint (or touch one at a knot).
+/// Sorted indices of the grid intervals that hold a breakpoint strictly inside. A breakpoint
+/// within rounding of a knot leaves both neighbouring intervals smooth, so they need nothing
+/// more than the model.
 fn breakpoint_intervals(grid: &LogGrid, breakpoints_k: &[f64]) -> Vec<usize> {
-    let last = grid.knots() - 2;
+    let intervals = grid.knots() - 1;
     let mut out: Vec<usize> = Vec::new();
     for &t in breakpoints_k {
         if !(t.is_finite() && t > 0.0) {
             continue;
         }
         let position = (log10(t) - grid.log10_t_min_k()) / grid.log10_t_step();
-        if !(position > -1e-6 && position < (last + 1) as f64 + 1e-6) {
+        let nearest_knot = position.round();
+        if (position - nearest_knot).abs() < 1e-6 || !(position > 0.0 && position < intervals as f64) {
             continue;
         }
-        // The interval holding it, and its neighbour when it sits within rounding of a knot.
-        let below = (position - 1e-6).floor().clamp(0.0, last as f64) as usize;
-        let above = (position + 1e-6).floor().clamp(0.0, last as f64) as usize;
-        out.push(below);
-        out.push(above);
+        out.push(position.floor() as usize);
     }
     out.sort_unstable();
     out.dedup();

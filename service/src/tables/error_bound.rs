@@ -16,9 +16,10 @@
 //!   second difference |d_(k+1) - 2 d_k + d_(k-1)| (for a function sampled every delta, the
 //!   excess of its maximum over the largest sample is at most delta^2 max|d''| / 8, and
 //!   delta^2 d'' is what the second difference measures).
-//! - Intervals holding a point where the source's second derivative jumps (the nodes of a
-//!   piecewise interpolant, see [`super::UpsilonSource::breakpoints_k`]): the leading-order form
-//!   does not hold there, so d is measured directly at t = k/16, k = 1..=15, and the same
+//! - Intervals holding, strictly inside, a point where the source's second derivative jumps
+//!   (the nodes of a piecewise interpolant, see [`super::UpsilonSource::breakpoints_k`]; one at
+//!   a knot leaves both neighbours smooth): the leading-order form
+//!   does not hold there, so d is measured directly at t = k/8, k = 1..=7, and the same
 //!   sample-plus-second-difference rule is applied to those measurements.
 //!
 //! The relative-error bound is e^(max |d|) - 1 plus a rounding allowance of
@@ -31,21 +32,41 @@ use crate::physics::elementary::exp_m1;
 pub const MODEL_FRACTIONS: [f64; 3] = [0.25, 0.5, 0.75];
 
 /// Measurements in an interval holding a source breakpoint: at k / `DENSE_DIVISIONS`.
-pub const DENSE_DIVISIONS: usize = 16;
+pub const DENSE_DIVISIONS: usize = 8;
 
 /// Divisions of an interval at which the fitted error model is evaluated.
 const MODEL_DIVISIONS: usize = 16;
 
 /// Bound on |d| over an ordinary interval from d at [`MODEL_FRACTIONS`].
 pub fn model_interval_bound(d: [f64; 3]) -> f64 {
-    // p at the three fractions: d / (t (1 - t)), t (1 - t) = 3/16, 1/4, 3/16.
-    let p = [d[0] * (16.0 / 3.0), d[1] * 4.0, d[2] * (16.0 / 3.0)];
     let mut samples = [0.0; MODEL_DIVISIONS + 1];
-    for (k, sample) in samples.iter_mut().enumerate().take(MODEL_DIVISIONS).skip(1) {
-        let t = k as f64 / MODEL_DIVISIONS as f64;
-        *sample = t * (1.0 - t) * quadratic_through_quarters(p, t);
+    for (sample, w) in samples[1..MODEL_DIVISIONS].iter_mut().zip(&MODEL_WEIGHTS) {
+        *sample = w[0] * d[0] + w[1] * d[1] + w[2] * d[2];
     }
     sampled_bound(&samples)
+}
+
+/// The model d at t = k / MODEL_DIVISIONS (k = 1..MODEL_DIVISIONS - 1) is linear in the three
+/// measurements: d(t) = t (1 - t) sum_j L_j(t) d_j / (t_j (1 - t_j)), L_j the Lagrange basis on
+/// 1/4, 1/2, 3/4. Row k holds the three weights.
+const MODEL_WEIGHTS: [[f64; 3]; MODEL_DIVISIONS - 1] = model_weights();
+
+const fn model_weights() -> [[f64; 3]; MODEL_DIVISIONS - 1] {
+    let mut w = [[0.0; 3]; MODEL_DIVISIONS - 1];
+    let mut k = 0;
+    while k < MODEL_DIVISIONS - 1 {
+        let t = (k + 1) as f64 / MODEL_DIVISIONS as f64;
+        let envelope = t * (1.0 - t);
+        let (a, b, c) = (t - 0.25, t - 0.5, t - 0.75);
+        // Lagrange basis (denominators 1/8, -1/16, 1/8) over t_j (1 - t_j) = 3/16, 1/4, 3/16.
+        w[k] = [
+            envelope * 8.0 * b * c * (16.0 / 3.0),
+            envelope * -16.0 * a * c * 4.0,
+            envelope * 8.0 * a * b * (16.0 / 3.0),
+        ];
+        k += 1;
+    }
+    w
 }
 
 /// Bound on |d| over an interval from d at k / `DENSE_DIVISIONS`, k = 1..DENSE_DIVISIONS - 1
@@ -70,14 +91,6 @@ fn sampled_bound(samples: &[f64]) -> f64 {
         .windows(3)
         .fold(0.0f64, |m, w| m.max((w[2] - 2.0 * w[1] + w[0]).abs()));
     largest + curvature / 8.0
-}
-
-/// The quadratic through (1/4, p0), (1/2, p1), (3/4, p2) at t (Lagrange form).
-fn quadratic_through_quarters(p: [f64; 3], t: f64) -> f64 {
-    let (a, b, c) = (t - 0.25, t - 0.5, t - 0.75);
-    // Denominators: (1/4 - 1/2)(1/4 - 3/4) = 1/8, (1/2 - 1/4)(1/2 - 3/4) = -1/16,
-    // (3/4 - 1/4)(3/4 - 1/2) = 1/8.
-    8.0 * p[0] * b * c - 16.0 * p[1] * a * c + 8.0 * p[2] * a * b
 }
 
 #[cfg(test)]
@@ -130,7 +143,7 @@ mod tests {
     #[test]
     fn the_dense_bound_covers_a_kinked_error() {
         // A C1 function with a jump in its second derivative at t = 0.3 (what a piecewise
-        // cubic source gives): samples every 1/16 plus the curvature allowance cover it.
+        // cubic source gives): samples every 1/8 plus the curvature allowance cover it.
         let q = |t: f64| {
             let smooth = t * (1.0 - t) * 0.2;
             let kink = if t > 0.3 { (t - 0.3) * (t - 0.3) } else { 0.0 };
