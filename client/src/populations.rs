@@ -191,6 +191,8 @@ pub(crate) fn merge(
     into.points.extend(next.points);
     into.critical_densities_per_cm3
         .extend(next.critical_densities_per_cm3);
+    into.critical_densities_all_exits_per_cm3
+        .extend(next.critical_densities_all_exits_per_cm3);
     for c in next.cautions {
         if !into.cautions.contains(&c) {
             into.cautions.push(c);

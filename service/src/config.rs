@@ -116,7 +116,8 @@ pub struct Flags {
     /// Listen address [default: 127.0.0.1:50051].
     #[arg(long, env = "RATEWELL_LISTEN")]
     pub listen: Option<SocketAddr>,
-    /// Folder of dataset folders to load at start and to reload from.
+    /// Folder of dataset folders to load at start and to reload from (a folder that fails to
+    /// load is refused on its own, logged with file, line and field; the others are served).
     #[arg(long, env = "RATEWELL_DATA_DIR")]
     pub data_dir: Option<PathBuf>,
     /// Do not load the embedded demo dataset.

@@ -11,7 +11,6 @@ use crate::api::populations::PopulationsHandler;
 use crate::api::rates::RatesHandler;
 use crate::api::transport::TransportHandler;
 use crate::config::Config;
-use crate::dataset;
 use crate::engine::{Engine, EngineError};
 use ratewell_proto::pb::{
     admin_server::AdminServer, catalogue_server::CatalogueServer, consistency_server::ConsistencyServer,
@@ -26,8 +25,10 @@ use tokio_stream::wrappers::TcpListenerStream;
 /// Why the server could not start or stopped with an error.
 #[derive(Debug, thiserror::Error)]
 pub enum ServerError {
-    /// A dataset failed to load at start-up.
-    #[error("start-up load failed: {0}")]
+    /// The embedded demo or the data folder itself could not be loaded at start-up (a bad
+    /// dataset folder inside the data folder is refused on its own and does not stop the
+    /// server; see [`build_engine`]).
+    #[error("start-up failed: {0}")]
     Load(#[from] EngineError),
     /// The transport failed.
     #[error("transport error: {0}")]
@@ -42,19 +43,68 @@ pub enum ServerError {
 
 /// Builds the engine and loads the configured datasets (demo and/or every dataset folder of
 /// the data folder). CPU-heavy: runs table precompute.
+///
+/// A dataset folder that fails to load is refused on its own and the others are served: a
+/// long-running service should not lose every dataset to one bad file. Each refusal is logged
+/// at error level with the folder and, for every problem, its file, line and field; health
+/// checking reports it (`api::health`) until a `LoadDataset` of the fixed folder succeeds.
+/// Only an unreadable data folder, or a demo that fails to load, is an error here.
 pub fn build_engine(config: &Config) -> Result<Engine, EngineError> {
     let engine = Engine::new(config.engine_config());
     if config.demo {
         let report = engine.load_demo()?;
         tracing::info!(dataset = %report.stamp.label(), hash = %report.stamp.content_hash, tables = report.table_count, seconds = report.precompute_seconds, "demo dataset loaded (invented data)");
     }
-    if let Some(dir) = &config.data_dir {
-        for path in dataset::find_dataset_dirs(dir)? {
-            let report = engine.load_path(&path)?;
-            tracing::info!(folder = %path.display(), dataset = %report.stamp.label(), hash = %report.stamp.content_hash, tables = report.table_count, seconds = report.precompute_seconds, "dataset loaded");
+    let outcomes = engine.load_data_folder()?;
+    let refused = outcomes.iter().filter(|(_, r)| r.is_err()).count();
+    for (folder, result) in &outcomes {
+        match result {
+            Ok(report) => {
+                tracing::info!(folder = %folder, dataset = %report.stamp.label(), hash = %report.stamp.content_hash, tables = report.table_count, seconds = report.precompute_seconds, "dataset loaded");
+            }
+            Err(error) => log_refused_folder(folder, error),
         }
     }
+    if refused > 0 {
+        tracing::warn!(
+            refused,
+            folders = outcomes.len(),
+            "some dataset folders were refused at start-up; every other dataset is served; \
+             health check \"{}\" reports NOT_SERVING until LoadDataset of each fixed folder succeeds",
+            crate::api::health::FOLDERS_SERVICE
+        );
+    }
+    if engine.datasets().is_empty() {
+        tracing::warn!(
+            "no dataset loaded: only catalogue, health and LoadDataset calls can succeed until a folder loads"
+        );
+    }
     Ok(engine)
+}
+
+/// Logs one refused folder: a summary line, then one line per located problem.
+fn log_refused_folder(folder: &str, error: &EngineError) {
+    // The inner error: "previous data keep serving" (a reload's wording) has no meaning here.
+    let (problems, detail) = match error {
+        EngineError::Load(e) => (e.problems(), e.to_string()),
+        other => (Vec::new(), other.to_string()),
+    };
+    tracing::error!(
+        folder = %folder,
+        problems = problems.len(),
+        error = %detail,
+        "dataset folder refused at start-up; the other datasets are served"
+    );
+    for p in problems {
+        tracing::error!(
+            folder = %folder,
+            file = %p.file,
+            line = p.line,
+            field = %p.field,
+            problem = %p.message,
+            "dataset problem"
+        );
+    }
 }
 
 /// Serves on `listener` until `shutdown` resolves, then drains and stops.
@@ -77,9 +127,12 @@ pub async fn serve(
     shutdown: impl Future<Output = ()> + Send + 'static,
     started: Instant,
 ) -> Result<(), ServerError> {
-    let state = AppState::new(engine, config.max_in_flight).with_request_timeout(config.request_timeout);
-    let limit = config.max_message_bytes;
     let (health, health_service) = tonic_health::server::health_reporter();
+    let state = AppState::new(engine, config.max_in_flight)
+        .with_request_timeout(config.request_timeout)
+        .with_health(health.clone());
+    let limit = config.max_message_bytes;
+    state.publish_folder_health().await;
     // Reflection names exactly the services served (Transport only when enabled).
     let mut served: Vec<&str> = vec![
         "ratewell.v1.Catalogue",

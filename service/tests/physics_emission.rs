@@ -93,8 +93,9 @@ fn lines_ratios_and_power_add_up() {
 }
 
 #[test]
-fn critical_density_is_decay_over_collisional_depopulation() {
-    // Osterbrock & Ferland 2006, eq. 3.31 (from memory): n_c(j) = sum_k<j A_jk / sum_k q_jk
+fn critical_density_is_decay_over_collisional_de_excitation() {
+    // Osterbrock & Ferland 2006, sec. 3.5: n_c(i) = sum_(j<i) A_ij / sum_(j<i) q_ij, downward
+    // rates only
     let rad = [
         RadiativeRate {
             upper: 2,
@@ -134,8 +135,8 @@ fn critical_density_is_decay_over_collisional_depopulation() {
     ];
     let nc = critical_densities_cm3(3, &rad, &coll).unwrap();
     assert_eq!(nc[0], Some(0.0));
-    // level 1 loses by de-excitation to 0 and excitation to 2
-    assert!(rel(nc[1].unwrap(), 2.0e-2 / (3.0e-8 + 4.0e-9)) < 1e-15);
+    // level 1 is de-excited to 0 only; its excitation to 2 (4e-9) does not count
+    assert!(rel(nc[1].unwrap(), 2.0e-2 / 3.0e-8) < 1e-15);
     assert!(rel(nc[2].unwrap(), 1.4e-2 / (5.0e-9 + 7.0e-9)) < 1e-15);
     assert_eq!(critical_densities_cm3(2, &rad[2..], &[]).unwrap()[1], None);
 }

@@ -180,3 +180,53 @@ fn pchip_matches_scipy() {
         assert!((interp.evaluate(x) - y).abs() < 1e-14, "x {x}");
     }
 }
+
+#[test]
+fn flat_data_stay_flat_between_their_points_for_every_type() {
+    // A constant Upsilon between its tabulated points must come back constant to rounding
+    // (its interpolation plane is one where a constant is a straight line, see
+    // physics::scaling; PCHIP reproduces straight lines, Fritsch & Carlson 1980). With the
+    // type-1/4 limit point present (g_l f given) it must not bend the last interval either.
+    let temps = [2.0e3, 5.0e3, 1.0e4, 3.0e4, 1.0e5, 3.0e5];
+    let flat = [0.61; 6];
+    for kind in ALL_TYPES {
+        for gf in [None, Some(0.05), Some(5.0)] {
+            let s = BurgessTullyScaling::new(kind, 2.16e3, None).unwrap();
+            let interp = ScaledUpsilon::new(s, &temps, &flat, gf).unwrap();
+            let mut worst: f64 = 0.0;
+            for i in 0..=2000 {
+                let t = 2.0e3 * 150f64.powf(f64::from(i) / 2000.0);
+                let v = interp.evaluate(t).unwrap();
+                assert_eq!(v.coverage, Coverage::Inside);
+                worst = worst.max(rel(v.upsilon, 0.61));
+            }
+            // a few roundings of numbers near 1 (eps = 2.2e-16)
+            assert!(worst < 2e-15, "{kind:?} gf {gf:?}: flat data bent by {worst:e}");
+        }
+    }
+}
+
+#[test]
+fn above_the_data_the_type_1_curve_joins_the_limit_smoothly() {
+    // The continuation above the data matches value and slope at the last node and reaches
+    // the Bethe limit y(1) = 4 g_l f / dE_Ry (Burgess & Tully 1992, from memory) at x = 1;
+    // checked by finite differences across the node (common practice, no source).
+    let temps = [2.0e3, 5.0e3, 1.0e4, 3.0e4, 1.0e5, 3.0e5];
+    let ups = [0.81, 0.92, 1.05, 1.31, 1.62, 2.1];
+    let de_k = 3.3e4;
+    let s = BurgessTullyScaling::new(TransitionType::Allowed, de_k, None).unwrap();
+    let interp = ScaledUpsilon::new(s, &temps, &ups, Some(0.2)).unwrap();
+    let t = 3.0e5;
+    let h = 1e-4 * t;
+    let f = |t: f64| interp.evaluate(t).unwrap().upsilon;
+    let left = (f(t) - f(t - h)) / h;
+    let right = (f(t + h) - f(t)) / h;
+    assert!(
+        (left - right).abs() < 2e-3 * left.abs().max(right.abs()),
+        "{left} vs {right}"
+    );
+    let limit = 4.0 * 0.2 * KELVIN_PER_RYDBERG / de_k;
+    let far = 1.0e250 * de_k;
+    let y_far = f(far) / (far / de_k + std::f64::consts::E).ln();
+    assert!(rel(y_far, limit) < 0.01, "{y_far} vs {limit}");
+}

@@ -216,13 +216,36 @@ async fn outside_the_grid_is_refused_or_extrapolated_and_flagged() {
         .await
         .expect("extrapolation allowed")
         .into_inner();
+    let tables = server
+        .rates()
+        .fetch_tables(pb::FetchTablesRequest {
+            dataset: Some(demo()),
+            species: MK_III.into(),
+            grid: None,
+        })
+        .await
+        .expect("fetch")
+        .into_inner()
+        .tables;
     for t in 0..answer.transitions.len() {
         let f = &answer.flags[t * 3..t * 3 + 3];
         assert_eq!(f[0] & flags::OUTSIDE_GRID, 0, "1e4 K is inside");
         assert_eq!(f[1] & flags::OUTSIDE_GRID, flags::OUTSIDE_GRID);
         assert_eq!(f[2] & flags::OUTSIDE_GRID, flags::OUTSIDE_GRID);
-        // Outside the grid is outside every source range too.
-        assert_eq!(f[1] & flags::BEYOND_SOURCE, flags::BEYOND_SOURCE);
+        // Outside the grid and outside the table's source range is beyond the source; a
+        // collision-strength table from threshold covers every low temperature, so 5 K is
+        // within its source range although outside the grid.
+        let table = tables
+            .iter()
+            .find(|x| x.key == Some(answer.transitions[t]))
+            .expect("table");
+        let beyond_at_5_k = if table.source_t_min_k > 5.0 {
+            flags::BEYOND_SOURCE
+        } else {
+            0
+        };
+        assert_eq!(f[1] & flags::BEYOND_SOURCE, beyond_at_5_k);
+        assert_eq!(f[2] & flags::BEYOND_SOURCE, flags::BEYOND_SOURCE);
         for v in &answer.deexcitation[t * 3..t * 3 + 3] {
             assert!(v.is_finite() && *v > 0.0, "extrapolated values stay positive");
         }

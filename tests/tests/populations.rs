@@ -221,8 +221,13 @@ async fn emissivities_and_critical_densities_follow_from_populations_and_rates()
         max_relative = 1e-14
     );
 
-    // Critical density n_c(j) = sum_k A_jk / sum_k q_jk over every collisional way out of j,
-    // up and down (Osterbrock & Ferland 2006, section 3.5, from memory), from a rate lookup.
+    // Critical density n_c(j) = sum_(k<j) A_jk / sum_(k<j) q_jk, downward rates only
+    // (Osterbrock & Ferland 2006, section 3.5), from a rate lookup.
+    assert!(
+        answer
+            .critical_density_definition
+            .contains("sum_(j<i) A_ij / sum_(j<i) q_ij")
+    );
     let rates = server
         .rates()
         .lookup_rates(lookup(MK_III, vec![t_k]))
@@ -240,15 +245,8 @@ async fn emissivities_and_critical_densities_follow_from_populations_and_rates()
             .transitions
             .iter()
             .enumerate()
-            .map(|(i, k)| {
-                if k.upper == j {
-                    rates.deexcitation[i]
-                } else if k.lower == j {
-                    rates.excitation[i]
-                } else {
-                    0.0
-                }
-            })
+            .filter(|(_, k)| k.upper == j)
+            .map(|(i, _)| rates.deexcitation[i])
             .sum();
         assert_relative_eq!(
             answer.critical_densities_per_cm3[j as usize - 1],

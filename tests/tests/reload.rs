@@ -1,12 +1,15 @@
 //! Admin LoadDataset end to end: a good folder swaps in atomically; a broken one is refused
 //! with FAILED_PRECONDITION naming file, line and field while the old data keep serving with
-//! the same content hash; names that leave the data folder are INVALID_ARGUMENT.
+//! the same content hash; names that leave the data folder are INVALID_ARGUMENT. At start-up
+//! a broken folder is refused alone: the others serve and health checking reports it.
 
 use ratewell_e2e::dataset_text::{SpeciesText, species_files, table_count, upsilon_table};
 use ratewell_e2e::requests::{MK_III, assert_status, key, lookup, refused, selector};
 use ratewell_e2e::{TempDataDir, TestServer, test_config};
 use ratewell_proto::pb;
 use tonic::Code;
+use tonic_health::pb::HealthCheckRequest;
+use tonic_health::pb::health_check_response::ServingStatus;
 
 /// A server with the embedded demo (1.0.0) and `data` as its data folder.
 async fn server_with(data: &TempDataDir) -> TestServer {
@@ -200,25 +203,67 @@ async fn a_server_without_a_data_folder_refuses_loads() {
     );
 }
 
+/// The health-check status of `service` on `server`.
+async fn health_of(server: &TestServer, service: &str) -> i32 {
+    server
+        .health()
+        .check(HealthCheckRequest {
+            service: service.to_string(),
+        })
+        .await
+        .unwrap_or_else(|e| panic!("health of {service:?}: {e}"))
+        .into_inner()
+        .status
+}
+
 #[tokio::test(flavor = "multi_thread", worker_threads = 2)]
-async fn a_broken_dataset_at_start_up_stops_the_server_naming_the_problem() {
+async fn a_broken_dataset_at_start_up_is_refused_alone_and_reported_by_health() {
     let data = TempDataDir::new("reload-startup");
     let broken = data.add_broken("broken");
+    data.add_demo_v2("demo-v2");
     let config = ratewell_service::config::Config {
         data_dir: Some(data.path().to_path_buf()),
         ..test_config()
     };
-    let error = match TestServer::try_start(config).await {
-        Ok(_) => panic!("a server with a broken dataset must not start"),
-        Err(e) => e.to_string(),
-    };
-    for word in [
-        "start-up load failed",
-        &format!("{}/{}:{}", broken.folder, broken.file, broken.line),
-        &broken.field,
-    ] {
-        assert!(error.contains(word), "{word:?} not in {error}");
-    }
+    // The server starts and serves the good folders (and the demo).
+    let server = TestServer::start_with(config).await;
+    let (_, stamp) = q32_newest(&server).await;
+    assert_eq!(stamp.version, "1.1.0", "the good folder demo-v2 serves");
+    let serving = ServingStatus::Serving as i32;
+    let not_serving = ServingStatus::NotServing as i32;
+    assert_eq!(health_of(&server, "").await, serving);
+    assert_eq!(
+        health_of(&server, "ratewell.dataset-folder/demo-v2").await,
+        serving
+    );
+    assert_eq!(
+        health_of(&server, "ratewell.dataset-folder/broken").await,
+        not_serving
+    );
+    assert_eq!(health_of(&server, "ratewell.dataset-folders").await, not_serving);
+    // Loading it again names the problem (file, line, field) ...
+    let status = refused(server.admin().load_dataset(load(&broken.folder)).await);
+    assert_status(
+        &status,
+        Code::FailedPrecondition,
+        &[
+            &format!("{}/{}:{}", broken.folder, broken.file, broken.line),
+            &broken.field,
+        ],
+    );
+    // ... and once it is fixed, a load brings every health entry to SERVING.
+    data.replace_line(&broken.folder, &broken.file, "a_per_s = -1.31", "a_per_s = 1.31");
+    server
+        .admin()
+        .load_dataset(load(&broken.folder))
+        .await
+        .expect("the fixed folder loads");
+    assert_eq!(
+        health_of(&server, "ratewell.dataset-folder/broken").await,
+        serving
+    );
+    assert_eq!(health_of(&server, "ratewell.dataset-folders").await, serving);
+    server.shutdown().await.expect("clean stop");
 }
 
 #[tokio::test(flavor = "multi_thread", worker_threads = 2)]

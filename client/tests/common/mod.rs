@@ -419,6 +419,8 @@ impl Populations for Fake {
             species: r.species.clone(),
             power_unit: 1,
             critical_densities_per_cm3: points.iter().flat_map(|_| [0.0, 1e3, 1e4]).collect(),
+            critical_density_definition: String::new(),
+            critical_densities_all_exits_per_cm3: vec![],
             points,
             level_count: 3,
             cautions: vec![],

@@ -35,6 +35,7 @@ impl Admin for AdminHandler {
                 tracing::warn!(folder = %log_folder, error = %status.message(), "dataset load refused; previous data keep serving")
             }
         }
+        self.0.publish_folder_health().await;
         let report = result?;
         Ok(Response::new(pb::LoadDatasetResponse {
             stamp: Some(stamp(&report.stamp)),

@@ -6,6 +6,7 @@ use crate::dataset::{CollisionData, Species};
 use crate::engine::EngineError;
 use crate::physics::constants::{ELECTRON_VOLT_J, INVERSE_CM_J};
 use crate::physics::units::vacuum_wavelength_angstrom_from_cm1;
+use crate::tables::source_range_k;
 use ratewell_proto::pb::{self, catalogue_server::Catalogue};
 use std::collections::BTreeSet;
 use tonic::{Request, Response, Status};
@@ -103,16 +104,16 @@ fn describe(species: &Species, unit: pb::EnergyUnit, stamp: pb::DatasetStamp) ->
             let radiative = species.radiative_transition(upper, lower);
             let collision = species.collisional_transition(upper, lower);
             let delta_cm1 = species.transition_energy_cm1(upper, lower).unwrap_or(0.0);
-            let (source_kind, t_min, t_max) = match collision.map(|c| &c.data) {
-                Some(CollisionData::EffectiveTable { temperatures_k, .. }) => (
-                    pb::CollisionSource::EffectiveTable,
-                    temperatures_k[0],
-                    temperatures_k[temperatures_k.len() - 1],
-                ),
-                Some(CollisionData::StrengthTable { .. }) => (pb::CollisionSource::StrengthTable, 0.0, 0.0),
-                Some(CollisionData::Estimate(_)) => (pb::CollisionSource::Approximation, 0.0, 0.0),
-                None => (pb::CollisionSource::Unspecified, 0.0, 0.0),
+            let source_kind = match collision.map(|c| &c.data) {
+                Some(CollisionData::EffectiveTable { .. }) => pb::CollisionSource::EffectiveTable,
+                Some(CollisionData::StrengthTable { .. }) => pb::CollisionSource::StrengthTable,
+                Some(CollisionData::Estimate(_)) => pb::CollisionSource::Approximation,
+                None => pb::CollisionSource::Unspecified,
             };
+            // The same range the tables carry (and flag BEYOND_SOURCE by); 0..0 for none.
+            let (t_min, t_max) = collision
+                .and_then(|c| source_range_k(&c.data))
+                .unwrap_or((0.0, 0.0));
             let mut sources: Vec<&str> = Vec::new();
             if let Some(r) = radiative {
                 sources.push(&r.source);

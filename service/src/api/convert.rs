@@ -5,6 +5,7 @@ use crate::engine::lookup::{LookupAnswer, LookupQuery};
 use crate::engine::solve::{PointLayout, SolveAnswer, SolveQuery};
 use crate::engine::units::{DensityUnit, PowerUnit, RateUnit, TemperatureUnit};
 use crate::engine::{EngineError, GridSpec, Selector, Stamp};
+use crate::physics::emission::CRITICAL_DENSITY_DEFINITION;
 use ratewell_proto::pb;
 use ratewell_proto::rule::{Direction, OutsidePolicy};
 
@@ -216,12 +217,19 @@ pub fn solve_answer(a: SolveAnswer) -> pb::SolvePopulationsResponse {
         .iter()
         .flat_map(|p| p.critical_densities_per_cm3.iter().copied())
         .collect();
+    let critical_all_exits = a
+        .points
+        .iter()
+        .flat_map(|p| p.critical_densities_all_exits_per_cm3.iter().copied())
+        .collect();
     pb::SolvePopulationsResponse {
         stamp: Some(stamp(&a.stamp)),
         species: a.species,
         power_unit: power_unit_to_wire(a.power_unit) as i32,
         level_count: a.level_count as u32,
         critical_densities_per_cm3: critical,
+        critical_density_definition: CRITICAL_DENSITY_DEFINITION.to_owned(),
+        critical_densities_all_exits_per_cm3: critical_all_exits,
         points: a
             .points
             .into_iter()

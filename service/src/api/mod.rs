@@ -6,6 +6,7 @@ pub mod admin;
 pub mod catalogue;
 pub mod consistency;
 pub mod convert;
+pub mod health;
 pub mod populations;
 pub mod rates;
 pub mod status;
@@ -90,6 +91,7 @@ pub struct AppState {
     max_in_flight: usize,
     request_timeout: Duration,
     cut: Arc<tokio::sync::watch::Sender<bool>>,
+    health: Option<tonic_health::server::HealthReporter>,
 }
 
 impl AppState {
@@ -103,6 +105,21 @@ impl AppState {
             max_in_flight,
             request_timeout: crate::config::Config::default().request_timeout,
             cut: Arc::new(tokio::sync::watch::Sender::new(false)),
+            health: None,
+        }
+    }
+
+    /// Keeps the dataset-folder entries of `health` up to date after every load
+    /// ([`health::publish_folder_health`]).
+    pub fn with_health(mut self, health: tonic_health::server::HealthReporter) -> Self {
+        self.health = Some(health);
+        self
+    }
+
+    /// Republishes the dataset-folder health entries (no-op without a health reporter).
+    pub async fn publish_folder_health(&self) {
+        if let Some(reporter) = &self.health {
+            health::publish_folder_health(reporter, &self.engine).await;
         }
     }
 

@@ -76,18 +76,24 @@ impl Species {
         (position < self.levels.len()).then_some(position)
     }
 
-    /// The radiative transition from level `upper` to level `lower`.
+    /// The radiative transition from level `upper` to level `lower` (a binary search: the list
+    /// is sorted by `(upper, lower)`).
     pub fn radiative_transition(&self, upper: u32, lower: u32) -> Option<&RadiativeTransition> {
-        self.radiative
-            .iter()
-            .find(|t| t.upper == upper && t.lower == lower)
+        let i = self
+            .radiative
+            .binary_search_by_key(&(upper, lower), |t| (t.upper, t.lower))
+            .ok()?;
+        self.radiative.get(i)
     }
 
-    /// The collisional transition between levels `upper` and `lower`.
+    /// The collisional transition between levels `upper` and `lower` (a binary search: the
+    /// list is sorted by `(upper, lower)`).
     pub fn collisional_transition(&self, upper: u32, lower: u32) -> Option<&CollisionalTransition> {
-        self.collisions
-            .iter()
-            .find(|t| t.upper == upper && t.lower == lower)
+        let i = self
+            .collisions
+            .binary_search_by_key(&(upper, lower), |t| (t.upper, t.lower))
+            .ok()?;
+        self.collisions.get(i)
     }
 
     /// Energy difference E(upper) - E(lower), cm^-1.

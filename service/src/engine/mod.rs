@@ -3,6 +3,7 @@
 //! (no tonic, no wire messages). Handlers convert, call one method here, and convert back.
 //!
 //! - [`registry`]: loaded datasets by id and version, swapped in atomically.
+//! - [`folders`]: the last load outcome of each data-folder entry.
 //! - [`lookup`]: batched rate-coefficient lookups.
 //! - [`solve`]: population solves over lists or grids of (Te, ne), in parallel.
 //! - [`compare`]: consistency comparison of two datasets.
@@ -11,16 +12,19 @@
 
 pub mod compare;
 pub mod error;
+pub mod folders;
 pub mod lookup;
 pub mod registry;
 pub mod solve;
 pub mod units;
 
 pub use error::EngineError;
+pub use folders::{FolderOutcome, FolderRecord};
 pub use registry::{LoadedDataset, Registry, Selector, SolveInputs, Stamp};
 
 use crate::dataset::{self, Dataset};
 use crate::physics::PhysicsError;
+use crate::physics::elementary::log10;
 use crate::physics::emission::line_terms;
 use crate::physics::populations::RadiativeRate;
 use crate::tables::{SpeciesTables, TableCache, TableKey, build_species_tables};
@@ -42,13 +46,18 @@ pub struct GridSpec {
 }
 
 impl GridSpec {
-    /// The uniform log grid this spec describes.
+    /// The uniform log grid this spec describes: the evaluation rule's `LogGrid::from_range`
+    /// (which also checks the spec and names what is wrong), with log10 taken by
+    /// [`crate::physics::elementary::log10`] so the grid, and every table built on it, has the
+    /// same bits on every platform.
     pub fn to_grid(self) -> Result<LogGrid, EngineError> {
-        Ok(LogGrid::from_range(
-            self.t_min_k,
-            self.t_max_k,
-            self.points_per_decade,
-        )?)
+        let checked = LogGrid::from_range(self.t_min_k, self.t_max_k, self.points_per_decade)?;
+        let step = checked.log10_t_step();
+        let log10_t_min_k = log10(self.t_min_k);
+        let decades = log10(self.t_max_k) - log10_t_min_k;
+        // The knot count rule of from_range: the first knot at or above t_max_k.
+        let intervals = (decades / step - 1e-9).ceil().max(1.0);
+        Ok(LogGrid::new(log10_t_min_k, step, intervals as usize + 1)?)
     }
 }
 
@@ -102,6 +111,9 @@ pub struct LoadReport {
     pub precompute_seconds: f64,
 }
 
+/// One folder of the data folder and how loading it went.
+pub type FolderLoad = (String, Result<LoadReport, EngineError>);
+
 /// The shared core. Cheap to clone.
 #[derive(Clone)]
 pub struct Engine {
@@ -112,6 +124,7 @@ struct Inner {
     config: EngineConfig,
     registry: Registry,
     cache: TableCache,
+    folders: FolderRecord,
 }
 
 impl Engine {
@@ -123,6 +136,7 @@ impl Engine {
                 config,
                 registry: Registry::default(),
                 cache,
+                folders: FolderRecord::default(),
             }),
         }
     }
@@ -203,9 +217,45 @@ impl Engine {
         self.install(dataset::load_folder(path)?)
     }
 
-    /// Loads folder `name` under the configured data folder. `name` must be a plain folder
-    /// name (no separators, no `..`).
+    /// Loads every dataset folder of the configured data folder (each sub-folder holding a
+    /// `dataset.toml`, by name), recording each outcome ([`Self::folder_outcomes`]). A folder
+    /// that fails is refused on its own: the others load. Errs only when the data folder itself
+    /// cannot be read; without a data folder there is nothing to load.
+    pub fn load_data_folder(&self) -> Result<Vec<FolderLoad>, EngineError> {
+        let Some(root) = &self.inner.config.data_dir else {
+            return Ok(Vec::new());
+        };
+        let mut outcomes = Vec::new();
+        for path in dataset::find_dataset_dirs(root)? {
+            let name = path
+                .file_name()
+                .map(|n| n.to_string_lossy().into_owned())
+                .unwrap_or_else(|| path.display().to_string());
+            let result = self.load_folder(&name);
+            outcomes.push((name, result));
+        }
+        Ok(outcomes)
+    }
+
+    /// The last load outcome of every data-folder entry loaded by name so far.
+    pub fn folder_outcomes(&self) -> Vec<(String, FolderOutcome)> {
+        self.inner.folders.all()
+    }
+
+    /// Loads folder `name` under the configured data folder and records the outcome. `name`
+    /// must be a plain folder name (no separators, no `..`).
     pub fn load_folder(&self, name: &str) -> Result<LoadReport, EngineError> {
+        let result = self.load_folder_unrecorded(name);
+        match &result {
+            Ok(report) => self.inner.folders.loaded(name, report.stamp.label()),
+            Err(EngineError::InvalidArgument { .. }) => {}
+            Err(EngineError::Load(e)) => self.inner.folders.refused(name, e.to_string()),
+            Err(e) => self.inner.folders.refused(name, e.to_string()),
+        }
+        result
+    }
+
+    fn load_folder_unrecorded(&self, name: &str) -> Result<LoadReport, EngineError> {
         let Some(root) = &self.inner.config.data_dir else {
             return Err(EngineError::invalid(
                 "folder",

@@ -6,7 +6,9 @@ use super::lookup::{add_flag_cautions, temperatures_in_kelvin};
 use super::units::{DensityUnit, PowerUnit, TemperatureUnit};
 use super::{Engine, EngineError, GridSpec, Selector, SolveInputs, Stamp};
 use crate::physics::PhysicsError;
-use crate::physics::emission::{PowerSummary, critical_densities_cm3, line_powers_into};
+use crate::physics::emission::{
+    PowerSummary, critical_densities_all_exits_cm3, critical_densities_cm3, line_powers_into,
+};
 use crate::physics::populations::{CollisionalRate, PopulationWorkspace};
 use crate::tables::SpeciesTables;
 use ratewell_proto::rule::{
@@ -82,10 +84,13 @@ pub struct PointAnswer {
     pub residual: f64,
     /// OR of the flag bits of every rate used.
     pub flags: u32,
-    /// Critical density per level, cm^-3 (0 for levels without radiative decay, infinity for
-    /// levels without collisional depopulation). They depend on the temperature only, so the
-    /// points of one temperature share one list.
+    /// Critical density per level, cm^-3, downward rates only
+    /// ([`critical_densities_cm3`]: 0 for levels without radiative decay, infinity for levels
+    /// without collisional de-excitation). They depend on the temperature only, so the points
+    /// of one temperature share one list.
     pub critical_densities_per_cm3: Arc<[f64]>,
+    /// The same with every collisional exit counted ([`critical_densities_all_exits_cm3`]).
+    pub critical_densities_all_exits_per_cm3: Arc<[f64]>,
 }
 
 /// The answer to a [`SolveQuery`].
@@ -389,10 +394,15 @@ fn solve_at_temperature(
             }),
     );
     workspace.set_rates(&inputs.radiative, rates)?;
-    let critical: Arc<[f64]> = critical_densities_cm3(inputs.energies_cm1.len(), &inputs.radiative, rates)?
-        .into_iter()
-        .map(|c| c.unwrap_or(f64::INFINITY))
-        .collect();
+    let n_levels = inputs.energies_cm1.len();
+    let served =
+        |c: Vec<Option<f64>>| -> Arc<[f64]> { c.into_iter().map(|c| c.unwrap_or(f64::INFINITY)).collect() };
+    let critical = served(critical_densities_cm3(n_levels, &inputs.radiative, rates)?);
+    let critical_all = served(critical_densities_all_exits_cm3(
+        n_levels,
+        &inputs.radiative,
+        rates,
+    )?);
     let mut out = Vec::with_capacity(work.densities.len());
     for &(index, ne) in &work.densities {
         let view = workspace.solve(ne)?;
@@ -439,6 +449,7 @@ fn solve_at_temperature(
                 residual,
                 flags,
                 critical_densities_per_cm3: Arc::clone(&critical),
+                critical_densities_all_exits_per_cm3: Arc::clone(&critical_all),
             },
         ));
     }

@@ -196,15 +196,48 @@ pub fn radiated_power_w_per_ion(lines: &[LineEmission]) -> f64 {
     lines.iter().map(|l| l.emissivity_w_per_ion).sum()
 }
 
-/// Critical density of every level, cm^-3: n_c(j) = sum_k A_jk / sum_(k != j) q_jk, the density
-/// at which collisional depopulation equals radiative decay. `None` for a level with no
-/// collisional rate out of it; 0 for a level without radiative decay.
+/// What [`critical_densities_cm3`] computes, as served with every answer.
+pub const CRITICAL_DENSITY_DEFINITION: &str = "n_c(i) = sum_(j<i) A_ij / sum_(j<i) q_ij: downward radiative and collisional \
+     (de-excitation) rates out of level i only (Osterbrock & Ferland 2006, sec. 3.5); 0 for a level with no radiative \
+     decay (the ground level), +inf for one with radiative decay but no downward collisional rate; \
+     critical_densities_all_exits_per_cm3 holds sum_(j<i) A_ij / sum_(j!=i) q_ij (excitation out of i counted too)";
+
+/// Critical density of every level, cm^-3, by the standard definition (Osterbrock & Ferland
+/// 2006, Astrophysics of Gaseous Nebulae and AGN, 2nd ed., sec. 3.5; from memory):
+/// n_c(i) = sum_(j<i) A_ij / sum_(j<i) q_ij, the density at which collisional de-excitation of
+/// level i equals its radiative decay. Only downward rates count: every radiative transition
+/// out of i (to its lower level) and the de-excitation rate of every collisional transition
+/// whose upper level is i; excitation out of i does not. `Some(0)` for a level with no
+/// radiative decay (the ground level); `None` for a level that decays radiatively but has no
+/// downward collisional rate (collisions never compete).
 pub fn critical_densities_cm3(
     n_levels: usize,
     radiative: &[RadiativeRate],
     collisional: &[CollisionalRate],
 ) -> Result<Vec<Option<f64>>, PhysicsError> {
-    let mut a_out = vec![0.0; n_levels];
+    critical_densities(n_levels, radiative, collisional, false)
+}
+
+/// The same ratio with every collisional exit of level i in the denominator,
+/// sum_(j<i) A_ij / sum_(j!=i) q_ij: de-excitation and excitation out of i. Lower than
+/// [`critical_densities_cm3`] wherever a level close above i is excited from it (a
+/// fine-structure doublet); `Some(0)` and `None` as there, `None` also for a level with
+/// radiative decay and no collisional exit at all.
+pub fn critical_densities_all_exits_cm3(
+    n_levels: usize,
+    radiative: &[RadiativeRate],
+    collisional: &[CollisionalRate],
+) -> Result<Vec<Option<f64>>, PhysicsError> {
+    critical_densities(n_levels, radiative, collisional, true)
+}
+
+fn critical_densities(
+    n_levels: usize,
+    radiative: &[RadiativeRate],
+    collisional: &[CollisionalRate],
+    count_excitation: bool,
+) -> Result<Vec<Option<f64>>, PhysicsError> {
+    let mut a_down = vec![0.0; n_levels];
     let mut q_out = vec![0.0; n_levels];
     let check = |list: &str, i: usize, name: &str, level: usize| {
         if level < n_levels {
@@ -220,7 +253,7 @@ pub fn critical_densities_cm3(
     for (i, r) in radiative.iter().enumerate() {
         let u = check("radiative", i, "upper", r.upper)?;
         check("radiative", i, "lower", r.lower)?;
-        a_out[u] += require_non_negative(r.a_s, "s^-1", || format!("radiative[{i}].a_s"))?;
+        a_down[u] += require_non_negative(r.a_s, "s^-1", || format!("radiative[{i}].a_s"))?;
     }
     for (i, c) in collisional.iter().enumerate() {
         let u = check("collisional", i, "upper", c.upper)?;
@@ -228,13 +261,24 @@ pub fn critical_densities_cm3(
         q_out[u] += require_non_negative(c.deexcitation_cm3_s, "cm^3 s^-1", || {
             format!("collisional[{i}].deexcitation_cm3_s")
         })?;
-        q_out[l] += require_non_negative(c.excitation_cm3_s, "cm^3 s^-1", || {
+        let excitation = require_non_negative(c.excitation_cm3_s, "cm^3 s^-1", || {
             format!("collisional[{i}].excitation_cm3_s")
         })?;
+        if count_excitation {
+            q_out[l] += excitation;
+        }
     }
-    Ok(a_out
+    Ok(a_down
         .iter()
         .zip(&q_out)
-        .map(|(&a, &q)| if q > 0.0 { Some(a / q) } else { None })
+        .map(|(&a, &q)| {
+            if a == 0.0 {
+                Some(0.0)
+            } else if q > 0.0 {
+                Some(a / q)
+            } else {
+                None
+            }
+        })
         .collect())
 }

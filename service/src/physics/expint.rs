@@ -12,6 +12,8 @@
 //! fraction, evaluated with the modified Lentz method, which yields e^x E_n(x) directly.
 //! Checked against mpmath to 1e-14 relative (tests/physics_expint.rs).
 
+use super::elementary::{exp, ln};
+
 /// Euler-Mascheroni constant gamma.
 const EULER_GAMMA: f64 = 0.577_215_664_901_532_9;
 /// Iteration cap for the series and the continued fraction (x = 1 needs about 60).
@@ -31,7 +33,7 @@ pub fn e1_scaled(x: f64) -> f64 {
 /// NaN input or n = 0.
 pub fn en(n: u32, x: f64) -> f64 {
     if x > 1.0 {
-        (-x).exp() * continued_fraction_scaled(n, x)
+        exp(-x) * continued_fraction_scaled(n, x)
     } else {
         small_argument(n, x)
     }
@@ -42,7 +44,7 @@ pub fn en_scaled(n: u32, x: f64) -> f64 {
     if x > 1.0 {
         continued_fraction_scaled(n, x)
     } else {
-        x.exp() * small_argument(n, x)
+        exp(x) * small_argument(n, x)
     }
 }
 
@@ -59,7 +61,7 @@ fn small_argument(n: u32, x: f64) -> f64 {
         };
     }
     let mut e = e1_series(x);
-    let exp_minus_x = (-x).exp();
+    let exp_minus_x = exp(-x);
     for k in 1..n {
         e = (exp_minus_x - x * e) / f64::from(k);
     }
@@ -79,7 +81,7 @@ fn e1_series(x: f64) -> f64 {
             break;
         }
     }
-    -EULER_GAMMA - x.ln() - sum
+    -EULER_GAMMA - ln(x) - sum
 }
 
 /// e^x E_n(x) for x > 1 from the continued fraction (A&S 5.1.22), modified Lentz method.

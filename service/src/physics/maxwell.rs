@@ -22,6 +22,7 @@
 //! inverse square: Omega_N e^-x_N t_N e^t_N E_2(t_N).
 
 use super::constants::KELVIN_PER_RYDBERG;
+use super::elementary::{exp, exp_m1, ln, ln_1p};
 use super::error::{
     PhysicsError, require_increasing, require_non_negative, require_positive, require_same_len,
 };
@@ -101,7 +102,7 @@ impl CollisionStrengthTable {
             TransitionType::Forbidden => HighEnergyTail::Constant,
             TransitionType::SpinChange => HighEnergyTail::InverseSquare,
             TransitionType::Allowed | TransitionType::WeakAllowed => {
-                let log_ratio = (last_e / delta_e_ry).ln_1p();
+                let log_ratio = ln_1p(last_e / delta_e_ry);
                 match weighted_oscillator_strength {
                     Some(gf) => {
                         let slope = 4.0 * gf / delta_e_ry;
@@ -157,7 +158,7 @@ impl CollisionStrengthTable {
         if final_energy_ry >= e[n - 1] {
             let incident_ratio = 1.0 + final_energy_ry / self.delta_e_ry;
             return Ok(match self.tail {
-                HighEnergyTail::Bethe { slope, offset } => slope * incident_ratio.ln() + offset,
+                HighEnergyTail::Bethe { slope, offset } => slope * ln(incident_ratio) + offset,
                 HighEnergyTail::Constant => w[n - 1],
                 HighEnergyTail::InverseSquare => {
                     let r = (e[n - 1] + self.delta_e_ry) / (final_energy_ry + self.delta_e_ry);
@@ -181,14 +182,14 @@ impl CollisionStrengthTable {
 
         let x_first = e[0] / kt_ry;
         let mut total = match self.below {
-            BelowFirstPoint::ConstantToThreshold => w[0] * -(-x_first).exp_m1(),
+            BelowFirstPoint::ConstantToThreshold => w[0] * -exp_m1(-x_first),
             BelowFirstPoint::LinearFromZeroAtThreshold => w[0] * segment_weights(x_first).1,
         };
         for i in 0..n - 1 {
             let x0 = e[i] / kt_ry;
             let h = (e[i + 1] - e[i]) / kt_ry;
             let (w0, w1) = segment_weights(h);
-            total += (-x0).exp() * (w[i] * w0 + w[i + 1] * w1);
+            total += exp(-x0) * (w[i] * w0 + w[i + 1] * w1);
         }
         total += self.tail_integral(kt_ry);
         if total.is_finite() {
@@ -208,13 +209,13 @@ impl CollisionStrengthTable {
         let last_omega = self.omega[n - 1];
         let x_last = last_e / kt_ry;
         let t_last = (last_e + self.delta_e_ry) / kt_ry;
-        let decay = (-x_last).exp();
+        let decay = exp(-x_last);
         if decay == 0.0 {
             return 0.0;
         }
         match self.tail {
             HighEnergyTail::Bethe { slope, offset } => {
-                let log_ratio = (last_e / self.delta_e_ry).ln_1p();
+                let log_ratio = ln_1p(last_e / self.delta_e_ry);
                 decay * (slope * (log_ratio + en_scaled(1, t_last)) + offset)
             }
             HighEnergyTail::Constant => decay * last_omega,
@@ -247,9 +248,9 @@ fn segment_weights(h: f64) -> (f64, f64) {
         }
         (p / h, g / h)
     } else {
-        let em = (-h).exp();
-        let p = h + (-h).exp_m1();
-        let g = -(-h).exp_m1() - h * em;
+        let em = exp(-h);
+        let p = h + exp_m1(-h);
+        let g = -exp_m1(-h) - h * em;
         (p / h, g / h)
     }
 }

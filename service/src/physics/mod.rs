@@ -6,6 +6,7 @@
 //! - [`constants`]: CODATA 2018 constants (re-exported from the contract crate).
 //! - [`units`]: conversions between K, eV, J, cm^-1, Rydberg, cm^-3, m^-3 and wavelengths.
 //! - [`rates`]: rate coefficients from effective collision strengths (detailed balance).
+//! - [`elementary`]: e^x, ln x, e^x - 1, ln(1 + x), 10^x with the same bits on every platform.
 //! - [`expint`]: exponential integrals E_n(x) and their scaled forms e^x E_n(x).
 //! - [`maxwell`]: exact Maxwellian average of piecewise-linear collision strengths.
 //! - [`transition`]: the four transition types shared by [`maxwell`] and [`scaling`].
@@ -19,6 +20,7 @@
 pub use ratewell_proto::constants;
 
 pub mod approximations;
+pub mod elementary;
 pub mod emission;
 pub mod error;
 pub mod expint;

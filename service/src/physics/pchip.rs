@@ -6,6 +6,7 @@
 //! interpolant never leaves the range of its two end values: no overshoot, and positive data
 //! give a positive interpolant.
 
+use super::elementary::exp;
 use super::error::{PhysicsError, require_same_len};
 
 /// A PCHIP interpolant through points (x_i, y_i) with strictly increasing x.
@@ -70,6 +71,11 @@ impl Pchip {
         (self.x[0], self.x[self.x.len() - 1])
     }
 
+    /// The node slopes at the first and last point.
+    pub fn end_slopes(&self) -> (f64, f64) {
+        (self.slopes[0], self.slopes[self.slopes.len() - 1])
+    }
+
     /// The interpolant at `x`; outside the data range a positive end value is continued as
     /// y_end exp((m_end / y_end)(x - x_end)), which matches the end value and slope (so the
     /// curve stays continuously differentiable, with no kink for a table to smooth over) and
@@ -85,7 +91,7 @@ impl Pchip {
         };
         let (y_end, m_end) = (self.y[end], self.slopes[end]);
         if y_end > 0.0 {
-            y_end * ((m_end / y_end) * (x - self.x[end])).exp()
+            y_end * exp((m_end / y_end) * (x - self.x[end]))
         } else {
             y_end
         }

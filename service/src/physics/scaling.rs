@@ -16,16 +16,28 @@
 //! positive but not known from the oscillator strength; we add no limit point (our derivation;
 //! a fixed y(1) = 0 would force Upsilon to fall faster than 1/T, against the E^-2 law).
 //!
-//! Interpolation: [`ScaledUpsilon`] runs a PCHIP through the scaled points (plus the x = 1
-//! limit point for types 1 and 4 when g_l f is given). Beyond the first and last node y is
-//! continued as y_end exp((y'_end / y_end)(x - x_end)): it matches value and slope at the node
-//! (no kink, so tables built on it interpolate smoothly), stays positive, and, since x is
-//! bounded by 0 and 1, stays bounded. With a flat end this is the constant-y continuation:
-//! below the lowest tabulated T Upsilon tends to a constant as T -> 0 (types 1-3); above the
-//! highest T without a limit point it gives the high-T law of each type: Bethe ln(u + e)
-//! growth (types 1, 4), constant (type 2), 1/(u + 1) fall (type 3). Our choice.
+//! Interpolation ([`ScaledUpsilon`]), our choices:
+//! - Inside the data (lowest to highest tabulated T) a PCHIP runs through the data points
+//!   only, against x, in a plane where a constant Upsilon is a straight line, so flat data stay
+//!   flat to rounding: y itself for types 1, 2 and 4 (a constant Upsilon has
+//!   y = Upsilon (1 - x) for type 1 with C = e, y = Upsilon (1 - x) / ln C for type 4 and
+//!   y = Upsilon for type 2), Upsilon itself for type 3 (whose y = (u + 1) Upsilon of a
+//!   constant is 1 / (1 - x)-shaped for C = 1, which a cubic would bend by up to ~1e-3 between
+//!   points).
+//! - Below the lowest tabulated T the interpolated quantity q is continued as
+//!   q_1 exp((q'_1 / q_1)(x - x_1)): value and slope match at the node (no kink, so tables
+//!   built on it interpolate smoothly), it stays positive and, x being bounded by 0, bounded;
+//!   a flat end gives a constant Upsilon as T -> 0.
+//! - Above the highest tabulated T the scaled y carries the high-temperature law of the type:
+//!   y is continued the same way from the last node (value and slope of y matched there), so
+//!   a flat end of y gives the Bethe ln(u + e) growth (types 1, 4), a constant (type 2) or the
+//!   1/(u + 1) fall (type 3). Where the x = 1 limit y(1) is known (types 1 and 4 with g_l f)
+//!   that continuation E(x) is blended into it: y = (1 - w) E(x) + w y(1) with
+//!   w = ((x - x_N)/(1 - x_N))^2, which keeps value and slope at the last node, reaches the
+//!   limit at x = 1 and stays positive. The limit never moves the data's own interpolant.
 
 use super::constants::KELVIN_PER_RYDBERG;
+use super::elementary::{exp, exp_m1, ln, ln_1p};
 use super::error::{
     PhysicsError, require_increasing, require_non_negative, require_positive, require_same_len,
 };
@@ -93,7 +105,7 @@ impl BurgessTullyScaling {
         let u = t_k / self.delta_e_k;
         Ok(if self.kind.is_dipole_allowed() {
             // 1 - ln C / ln(u + C) written as ln(1 + u/C) / ln(u + C): no cancellation at small u
-            (u / self.c).ln_1p() / (u + self.c).ln()
+            ln_1p(u / self.c) / ln(u + self.c)
         } else {
             u / (u + self.c)
         })
@@ -111,7 +123,7 @@ impl BurgessTullyScaling {
         }
         let u = if self.kind.is_dipole_allowed() {
             // ln(u + C) = ln C / (1 - x)  =>  u = C (exp(ln C x / (1 - x)) - 1)
-            self.c * (self.c.ln() * x / (1.0 - x)).exp_m1()
+            self.c * exp_m1(ln(self.c) * x / (1.0 - x))
         } else {
             self.c * x / (1.0 - x)
         };
@@ -123,10 +135,10 @@ impl BurgessTullyScaling {
     fn upsilon_factor(&self, t_k: f64) -> f64 {
         let u = t_k / self.delta_e_k;
         match self.kind {
-            TransitionType::Allowed => (u + std::f64::consts::E).ln(),
+            TransitionType::Allowed => ln(u + std::f64::consts::E),
             TransitionType::Forbidden => 1.0,
             TransitionType::SpinChange => 1.0 / (u + 1.0),
-            TransitionType::WeakAllowed => (u + self.c).ln(),
+            TransitionType::WeakAllowed => ln(u + self.c),
         }
     }
 
@@ -178,20 +190,34 @@ pub struct ScaledEvaluation {
     pub coverage: Coverage,
 }
 
+/// Which quantity the interpolant runs through inside the data.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum Ordinate {
+    /// The scaled effective collision strength y (types 1, 2, 4).
+    Scaled,
+    /// Upsilon itself (type 3).
+    Upsilon,
+}
+
 /// Interpolator of Upsilon(T) built from sparse points through the Burgess & Tully scaled
-/// plane (PCHIP in x, y), with the high-temperature limit point added where it is known.
+/// temperature x (see the module documentation for the planes and continuations).
 #[derive(Debug, Clone, PartialEq)]
 pub struct ScaledUpsilon {
     scaling: BurgessTullyScaling,
+    ordinate: Ordinate,
     curve: Pchip,
     x_data_min: f64,
     x_data_max: f64,
-    has_limit: bool,
+    /// y and dy/dx at the last data node.
+    y_last: f64,
+    y_slope_last: f64,
+    /// y(1), when known.
+    limit: Option<f64>,
 }
 
 impl ScaledUpsilon {
     /// Build from `temperatures_k` (K, > 0, strictly increasing) and `upsilon` (>= 0, same
-    /// length >= 1); `weighted_oscillator_strength` g_l f (>= 0) adds the x = 1 point for
+    /// length >= 1); `weighted_oscillator_strength` g_l f (>= 0) gives the x = 1 limit for
     /// types 1 and 4 and is ignored for types 2 and 3.
     pub fn new(
         scaling: BurgessTullyScaling,
@@ -211,8 +237,13 @@ impl ScaledUpsilon {
         if let Some(gf) = weighted_oscillator_strength {
             require_non_negative(gf, "", || "weighted_oscillator_strength".to_owned())?;
         }
-        let mut xs = Vec::with_capacity(upsilon.len() + 1);
-        let mut ys = Vec::with_capacity(upsilon.len() + 1);
+        let ordinate = if scaling.kind() == TransitionType::SpinChange {
+            Ordinate::Upsilon
+        } else {
+            Ordinate::Scaled
+        };
+        let mut xs = Vec::with_capacity(upsilon.len());
+        let mut qs = Vec::with_capacity(upsilon.len());
         for (i, (&t, &u)) in temperatures_k.iter().zip(upsilon).enumerate() {
             require_non_negative(u, "", || format!("upsilon[{i}]"))?;
             let x = scaling.scaled_temperature(t)?;
@@ -225,25 +256,37 @@ impl ScaledUpsilon {
                 });
             }
             xs.push(x);
-            ys.push(scaling.scaled_upsilon(u, t)?);
+            qs.push(match ordinate {
+                Ordinate::Scaled => scaling.scaled_upsilon(u, t)?,
+                Ordinate::Upsilon => u,
+            });
         }
-        let x_data_min = xs[0];
-        let x_data_max = xs[xs.len() - 1];
-        let limit = scaling.high_temperature_limit(weighted_oscillator_strength);
-        let has_limit = match limit {
-            Some(y1) if x_data_max < 1.0 => {
-                xs.push(1.0);
-                ys.push(y1);
-                true
+        let curve = Pchip::new(&xs, &qs)?;
+        let n = xs.len();
+        let (x_last, q_last, q_slope_last) = (xs[n - 1], qs[n - 1], curve.end_slopes().1);
+        let (y_last, y_slope_last) = match ordinate {
+            Ordinate::Scaled => (q_last, q_slope_last),
+            Ordinate::Upsilon => {
+                // y = (u + 1) Upsilon with u = C x / (1 - x): dy/dx = (u + 1) q' + q C / (1 - x)^2.
+                let t_last = temperatures_k[n - 1];
+                let u = t_last / scaling.delta_e_k();
+                let c = scaling.scaling_parameter();
+                let y = scaling.scaled_upsilon(q_last, t_last)?;
+                (
+                    y,
+                    (u + 1.0) * q_slope_last + q_last * c / ((1.0 - x_last) * (1.0 - x_last)),
+                )
             }
-            _ => false,
         };
         Ok(Self {
             scaling,
-            curve: Pchip::new(&xs, &ys)?,
-            x_data_min,
-            x_data_max,
-            has_limit,
+            ordinate,
+            curve,
+            x_data_min: xs[0],
+            x_data_max: x_last,
+            y_last,
+            y_slope_last,
+            limit: scaling.high_temperature_limit(weighted_oscillator_strength),
         })
     }
 
@@ -255,18 +298,34 @@ impl ScaledUpsilon {
     /// Effective collision strength at `t_k` (K, > 0) and whether it was interpolated.
     pub fn evaluate(&self, t_k: f64) -> Result<ScaledEvaluation, PhysicsError> {
         let x = self.scaling.scaled_temperature(t_k)?;
-        let coverage = if x < self.x_data_min {
-            Coverage::BelowData
-        } else if x <= self.x_data_max {
-            Coverage::Inside
-        } else if self.has_limit {
-            Coverage::AboveDataTowardLimit
+        if x <= self.x_data_max {
+            let coverage = if x < self.x_data_min {
+                Coverage::BelowData
+            } else {
+                Coverage::Inside
+            };
+            let q = self.curve.evaluate_continued(x).max(0.0);
+            let upsilon = match self.ordinate {
+                Ordinate::Scaled => self.scaling.upsilon_from_scaled(q, t_k)?,
+                Ordinate::Upsilon => q,
+            };
+            return Ok(ScaledEvaluation { upsilon, coverage });
+        }
+        let continued = if self.y_last > 0.0 {
+            self.y_last * exp((self.y_slope_last / self.y_last) * (x - self.x_data_max))
         } else {
-            Coverage::AboveData
+            self.y_last
         };
-        let y = self.curve.evaluate_continued(x).max(0.0);
+        let (y, coverage) = match self.limit {
+            Some(limit) => {
+                let s = (x - self.x_data_max) / (1.0 - self.x_data_max);
+                let w = s * s;
+                ((1.0 - w) * continued + w * limit, Coverage::AboveDataTowardLimit)
+            }
+            None => (continued, Coverage::AboveData),
+        };
         Ok(ScaledEvaluation {
-            upsilon: self.scaling.upsilon_from_scaled(y, t_k)?,
+            upsilon: self.scaling.upsilon_from_scaled(y.max(0.0), t_k)?,
             coverage,
         })
     }

@@ -1,18 +1,23 @@
 //! Rate tables: precomputed from a dataset's collision data on uniform log-T grids, each
 //! carrying its measured interpolation error, and cached by dataset hash, species and grid.
 //!
-//! - [`build`]: one table from an Upsilon source, with its error measured at grid midpoints.
+//! - [`build`]: one table from an Upsilon source, with a bound on its interpolation error.
+//! - [`error_bound`]: where that error is measured and how it becomes a bound.
+//! - [`source_range`]: the one definition of a transition's source temperature range.
 //! - [`sources`]: a dataset transition turned into an Upsilon source through the physics layer.
 //! - [`species`]: all tables of one species on one grid, indexed by transition.
 //! - [`cache`]: the concurrent table cache.
 
 pub mod build;
 pub mod cache;
+pub mod error_bound;
+pub mod source_range;
 pub mod sources;
 pub mod species;
 
-pub use build::{UpsilonSource, build_table};
+pub use build::{GridSamples, UpsilonSource, build_table, build_table_on};
 pub use cache::{TableCache, TableKey};
+pub use source_range::source_range_k;
 pub use species::SpeciesTables;
 
 use crate::dataset::Species;
@@ -57,12 +62,13 @@ pub enum TableError {
 /// Builds every collisional transition's table for `species` on `grid`, in parallel.
 pub fn build_species_tables(species: &Species, grid: LogGrid) -> Result<SpeciesTables, TableError> {
     let range = (grid.t_min_k(), grid.t_max_k());
+    let samples = GridSamples::new(grid);
     let tables = species
         .collisions
         .par_iter()
         .map(|transition| {
             let ts = sources::transition_source(species, transition, range)?;
-            build_table(ts.header, grid, ts.source.as_ref()).map_err(|e| match e {
+            build_table_on(&samples, ts.header, ts.source.as_ref()).map_err(|e| match e {
                 TableError::Evaluation(message) => TableError::Source {
                     species: species.name.clone(),
                     upper: transition.upper,
@@ -103,7 +109,8 @@ fn cautions_for(
     if beyond > 0 {
         cautions.push(format!(
             "{}: {beyond} transitions have source data covering only part of the grid [{:.3e}, {:.3e}] K; \
-             values outside their source range are extrapolated by scaling and flagged BEYOND_SOURCE",
+             values outside their source range come from continuation rules (scaled-plane extrapolation of \
+             Upsilon tables, the threshold and high-energy forms of collision strengths) and are flagged BEYOND_SOURCE",
             species.name,
             grid.t_min_k(),
             grid.t_max_k()

@@ -1,20 +1,17 @@
 //! Turns a dataset's collisional transition into a direct source of Upsilon(T) built on the
 //! physics layer, together with the header its table carries (weights, energy, source range).
 
+use super::source_range::source_range_k;
 use super::{TableError, UpsilonSource};
 use crate::dataset::{CollisionData, CollisionalTransition, EstimateMethod, Species};
 use crate::physics::approximations::{
     SemiClassicalEstimate, TargetCharge, hydrogenic_mean_radius_bohr, van_regemorter_upsilon,
 };
-use crate::physics::constants::{KELVIN_PER_INVERSE_CM, KELVIN_PER_RYDBERG};
+use crate::physics::constants::KELVIN_PER_INVERSE_CM;
 use crate::physics::maxwell::{BelowFirstPoint, CollisionStrengthTable};
 use crate::physics::scaling::{BurgessTullyScaling, ScaledUpsilon};
 use crate::physics::{PhysicsError, units};
 use ratewell_proto::rule::TableHeader;
-
-/// Fraction of the transition's Maxwellian weight allowed beyond the last tabulated collision
-/// energy before a temperature counts as beyond the source data: e^-5, under 1 %.
-const STRENGTH_TAIL_E_FOLDS: f64 = 5.0;
 
 /// A transition's Upsilon source and its table header.
 pub struct TransitionSource {
@@ -24,9 +21,9 @@ pub struct TransitionSource {
     pub source: Box<dyn UpsilonSource + Send>,
 }
 
-/// Builds the source of one collisional transition of `species`. `grid_range_k` is the range
-/// the table will span, used as the "source range" of approximations (they are flagged
-/// approximate instead).
+/// Builds the source of one collisional transition of `species`. The header's source range is
+/// [`source_range_k`]'s; approximations have none and get `grid_range_k`, the range the table
+/// will span (their values are flagged approximate instead).
 pub fn transition_source(
     species: &Species,
     transition: &CollisionalTransition,
@@ -55,17 +52,18 @@ pub fn transition_source(
         lower,
         message: e.to_string(),
     };
-    let (source, range_k, approximate): (Box<dyn UpsilonSource + Send>, (f64, f64), bool) = match &transition
-        .data
-    {
+    let (source, approximate): (Box<dyn UpsilonSource + Send>, bool) = match &transition.data {
         CollisionData::EffectiveTable {
             temperatures_k,
             upsilon,
         } => {
             let scaling = BurgessTullyScaling::new(kind, delta_e_k, None).map_err(wrap)?;
             let curve = ScaledUpsilon::new(scaling, temperatures_k, upsilon, weighted_f).map_err(wrap)?;
-            let range = (temperatures_k[0], temperatures_k[temperatures_k.len() - 1]);
-            (Box::new(Scaled(curve)), range, false)
+            let source = Scaled {
+                curve,
+                nodes_k: temperatures_k.clone(),
+            };
+            (Box::new(source), false)
         }
         CollisionData::StrengthTable {
             scattered_energies_ry,
@@ -80,17 +78,7 @@ pub fn transition_source(
                 BelowFirstPoint::default(),
             )
             .map_err(wrap)?;
-            let first_positive = scattered_energies_ry
-                .iter()
-                .copied()
-                .find(|&e| e > 0.0)
-                .unwrap_or(scattered_energies_ry[scattered_energies_ry.len() - 1]);
-            let last = scattered_energies_ry[scattered_energies_ry.len() - 1];
-            let range = (
-                first_positive * KELVIN_PER_RYDBERG,
-                (last * KELVIN_PER_RYDBERG / STRENGTH_TAIL_E_FOLDS).max(first_positive * KELVIN_PER_RYDBERG),
-            );
-            (Box::new(Averaged(table)), range, false)
+            (Box::new(Averaged(table)), false)
         }
         CollisionData::Estimate(EstimateMethod::VanRegemorter {
             oscillator_strength, ..
@@ -105,7 +93,7 @@ pub fn transition_source(
                 delta_e_ry,
                 target,
             };
-            (Box::new(source), grid_range_k, true)
+            (Box::new(source), true)
         }
         CollisionData::Estimate(EstimateMethod::CoulombFocusing { strength }) => {
             // The lower level's binding energy is at least the transition energy (the upper
@@ -116,9 +104,10 @@ pub fn transition_source(
             let estimate =
                 SemiClassicalEstimate::new(delta_e_ry, radius, f64::from(species.ion_charge), *strength)
                     .map_err(wrap)?;
-            (Box::new(SemiClassical(estimate)), grid_range_k, true)
+            (Box::new(SemiClassical(estimate)), true)
         }
     };
+    let range_k = source_range_k(&transition.data).unwrap_or(grid_range_k);
     Ok(TransitionSource {
         header: TableHeader {
             upper,
@@ -138,10 +127,18 @@ fn physics_failure(e: PhysicsError) -> TableError {
     TableError::Evaluation(e.to_string())
 }
 
-struct Scaled(ScaledUpsilon);
+/// Sparse Upsilon(T) through the scaled plane; its nodes are where the piecewise-cubic
+/// interpolant's second derivative jumps.
+struct Scaled {
+    curve: ScaledUpsilon,
+    nodes_k: Vec<f64>,
+}
 impl UpsilonSource for Scaled {
     fn upsilon(&self, t_k: f64) -> Result<f64, TableError> {
-        Ok(self.0.evaluate(t_k).map_err(physics_failure)?.upsilon)
+        Ok(self.curve.evaluate(t_k).map_err(physics_failure)?.upsilon)
+    }
+    fn breakpoints_k(&self) -> &[f64] {
+        &self.nodes_k
     }
 }
 

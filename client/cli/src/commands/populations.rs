@@ -113,6 +113,9 @@ pub(crate) fn as_text(r: &pb::SolvePopulationsResponse, lines: usize) -> String 
     }
     if levels > 1 && r.critical_densities_per_cm3.len() == r.points.len() * levels {
         out.push_str("\ncritical densities, cm^-3\n");
+        if !r.critical_density_definition.is_empty() {
+            out.push_str(&format!("definition: {}\n", r.critical_density_definition));
+        }
         let headers: Vec<String> = std::iter::once("T_K".to_string())
             .chain((2..=levels).map(|i| format!("LEVEL_{i}")))
             .collect();
@@ -176,6 +179,7 @@ pub(crate) fn as_json(r: &pb::SolvePopulationsResponse) -> String {
         "species": r.species,
         "power_unit": power_symbol(r.power_unit),
         "level_count": r.level_count,
+        "critical_density_definition": r.critical_density_definition,
         "points": points,
         "cautions": r.cautions,
     }))
@@ -217,6 +221,8 @@ mod tests {
             power_unit: 1,
             points: vec![pt(1e4, 1e2, 0), pt(1e4, 1e4, 1)],
             critical_densities_per_cm3: vec![0.0, 5e3, 0.0, 5e3],
+            critical_density_definition: "downward rates only".into(),
+            critical_densities_all_exits_per_cm3: vec![0.0, 4e3, 0.0, 4e3],
             level_count: 2,
             cautions: vec!["approximate data used".into()],
         }
@@ -233,6 +239,7 @@ mod tests {
         let lines_part = text.split("strongest lines").nth(1).unwrap();
         assert!(lines_part.contains("3-1") && !lines_part.split("critical").next().unwrap().contains("2-1"));
         let crit = text.split("critical densities, cm^-3\n").nth(1).unwrap();
+        assert!(crit.starts_with("definition: downward rates only\n"), "{text}");
         assert_eq!(
             crit.lines().filter(|l| l.starts_with("10000")).count(),
             1,

@@ -69,6 +69,10 @@ pub(super) fn build_collisions(
     out
 }
 
+/// Relative distance below the transition energy within which an incident energy counts as
+/// the threshold itself (unit-conversion rounding is about 1e-16).
+const THRESHOLD_RELATIVE_SLACK: f64 = 1e-9;
+
 /// Keys that belong to each data form, for "wrong form" messages.
 const UPSILON_KEYS: [&str; 2] = ["temperatures", "temperature_unit"];
 const OMEGA_KEYS: [&str; 3] = ["energies", "energy_unit", "energy_kind"];
@@ -301,7 +305,14 @@ fn strength_table(
             continue;
         };
         let ef = if incident {
-            unit.to_ry(v) - threshold_ry
+            let ef = unit.to_ry(v) - threshold_ry;
+            // The transition energy written in another unit than the levels differs from
+            // threshold_ry by conversion rounding: within that slack it is the threshold.
+            if ef < 0.0 && -ef <= THRESHOLD_RELATIVE_SLACK * threshold_ry {
+                0.0
+            } else {
+                ef
+            }
         } else {
             unit.to_ry(v)
         };
@@ -318,7 +329,7 @@ fn strength_table(
                 &e.loc,
                 format!(
                     "got incident energy {v} {} = {} Ry, below the excitation threshold {threshold_ry} Ry; \
-                     incident energies must be >= the transition energy",
+                     incident energies must be >= the transition energy (within a relative 1e-9)",
                     unit.as_str(),
                     unit.to_ry(v)
                 ),
