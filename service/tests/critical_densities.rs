@@ -1,5 +1,5 @@
-//! Served critical densities: the standard downward-only definition
-//! n_c(i) = sum_(j<i) A_ij / sum_(j<i) q_ij (Osterbrock & Ferland 2006, sec. 3.5; from memory),
+//! Served critical densities: the downward-only definition
+//! n_c(i) = sum_(j<i) A_ij / sum_(j<i) q_ij (downward rates only; common practice, no source),
 //! checked against the two-level closed form and against an independent computation from the
 //! real-ion data files (tests/reference/make_critical_density_reference.py, mpmath).
 

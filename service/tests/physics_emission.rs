@@ -94,8 +94,8 @@ fn lines_ratios_and_power_add_up() {
 
 #[test]
 fn critical_density_is_decay_over_collisional_de_excitation() {
-    // Osterbrock & Ferland 2006, sec. 3.5: n_c(i) = sum_(j<i) A_ij / sum_(j<i) q_ij, downward
-    // rates only
+    // Downward-only critical density (common practice, no source):
+    // n_c(i) = sum_(j<i) A_ij / sum_(j<i) q_ij
     let rad = [
         RadiativeRate {
             upper: 2,

@@ -222,7 +222,7 @@ async fn emissivities_and_critical_densities_follow_from_populations_and_rates()
     );
 
     // Critical density n_c(j) = sum_(k<j) A_jk / sum_(k<j) q_jk, downward rates only
-    // (Osterbrock & Ferland 2006, section 3.5), from a rate lookup.
+    // (common practice, no source), from a rate lookup.
     assert!(
         answer
             .critical_density_definition

@@ -198,12 +198,14 @@ pub fn radiated_power_w_per_ion(lines: &[LineEmission]) -> f64 {
 
 /// What [`critical_densities_cm3`] computes, as served with every answer.
 pub const CRITICAL_DENSITY_DEFINITION: &str = "n_c(i) = sum_(j<i) A_ij / sum_(j<i) q_ij: downward radiative and collisional \
-     (de-excitation) rates out of level i only (Osterbrock & Ferland 2006, sec. 3.5); 0 for a level with no radiative \
+     (de-excitation) rates out of level i only; 0 for a level with no radiative \
      decay (the ground level), +inf for one with radiative decay but no downward collisional rate; \
-     critical_densities_all_exits_per_cm3 holds sum_(j<i) A_ij / sum_(j!=i) q_ij (excitation out of i counted too)";
+     critical_densities_all_exits_per_cm3 holds sum_(j<i) A_ij / sum_(j!=i) q_ij (excitation out of i counted too, \
+     the form of Osterbrock & Ferland 2006, eq. 3.30, whose tabulated values it reproduces)";
 
-/// Critical density of every level, cm^-3, by the standard definition (Osterbrock & Ferland
-/// 2006, Astrophysics of Gaseous Nebulae and AGN, 2nd ed., sec. 3.5; from memory):
+/// Critical density of every level, cm^-3, counting downward rates only (common practice, no
+/// source; Osterbrock & Ferland 2006, eq. 3.30, from memory, count every collisional exit
+/// j != i instead, served beside this as the all-exits ratio):
 /// n_c(i) = sum_(j<i) A_ij / sum_(j<i) q_ij, the density at which collisional de-excitation of
 /// level i equals its radiative decay. Only downward rates count: every radiative transition
 /// out of i (to its lower level) and the de-excitation rate of every collisional transition

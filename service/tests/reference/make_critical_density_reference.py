@@ -1,8 +1,8 @@
 #!/usr/bin/env python3
 """Critical densities of the real-ion test data at 1e4 K, computed independently of the Rust
-code from the data files (tomllib) and CODATA 2018 constants (mpmath), by the standard
-definition (Osterbrock & Ferland 2006, Astrophysics of Gaseous Nebulae and AGN, 2nd ed.,
-section 3.5):
+code from the data files (tomllib) and CODATA 2018 constants (mpmath), counting downward
+rates only (common practice, no source; Osterbrock & Ferland 2006, eq. 3.30, from memory,
+count every collisional exit instead, which the server serves beside it):
 
     n_c(i) = sum_{j<i} A_ij / sum_{j<i} q_ij,   q_ij = C Upsilon_ij / (g_i sqrt(T)),
     C = h^2 / ((2 pi m_e)^(3/2) k^(1/2))
