@@ -123,7 +123,7 @@
 #define RATEWELL_FLAG_APPROXIMATE 1
 
 /*
- Flag bit: outside the temperature range of the source data (extrapolated by scaling).
+ Flag bit: outside the source range of the data (the value leans on their documented continuation).
  */
 #define RATEWELL_FLAG_BEYOND_SOURCE 2
 

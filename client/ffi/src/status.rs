@@ -210,7 +210,7 @@ pub const RATEWELL_REFUSE: i32 = 0;
 pub const RATEWELL_EXTRAPOLATE: i32 = 1;
 /// Flag bit: the rate comes from an approximation formula.
 pub const RATEWELL_FLAG_APPROXIMATE: u32 = 1;
-/// Flag bit: outside the temperature range of the source data (extrapolated by scaling).
+/// Flag bit: outside the source range of the data (the value leans on their documented continuation).
 pub const RATEWELL_FLAG_BEYOND_SOURCE: u32 = 2;
 /// Flag bit: outside the table grid (extrapolated, only when asked for).
 pub const RATEWELL_FLAG_OUTSIDE_GRID: u32 = 4;

@@ -4,7 +4,8 @@ use super::grid::Side;
 
 /// The collision data come from an approximation formula.
 pub const APPROXIMATE: u32 = 1;
-/// The temperature lies outside the source data's range (scaled extrapolation).
+/// The temperature lies outside the table's source range: the value leans on the documented
+/// continuation of the data beyond their tabulated energies or temperatures.
 pub const BEYOND_SOURCE: u32 = 2;
 /// The temperature lies outside the table grid (extrapolated by this rule).
 pub const OUTSIDE_GRID: u32 = 4;

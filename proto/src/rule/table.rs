@@ -137,7 +137,8 @@ impl RateTable {
         })
     }
 
-    /// Records the measured interpolation error (relative, at grid midpoints).
+    /// Records the measured interpolation error bound (relative; how it is measured is stated
+    /// in the contract, `RateTable.max_interpolation_error`).
     pub fn with_max_interpolation_error(mut self, error: f64) -> Self {
         self.max_interpolation_error = error;
         self
@@ -159,7 +160,7 @@ impl RateTable {
     pub fn slopes(&self) -> &[f64] {
         &self.slopes
     }
-    /// Largest relative interpolation error measured at grid midpoints.
+    /// Bound on the relative interpolation error, as measured when the table was built.
     pub fn max_interpolation_error(&self) -> f64 {
         self.max_interpolation_error
     }

@@ -25,7 +25,7 @@ __all__ = ["Connection", "Tables", "RatewellError", "load_tables", "FLAG_APPROXI
 
 #: Flag bit: the rate comes from an approximation formula (good to a factor of a few at best).
 FLAG_APPROXIMATE = 1
-#: Flag bit: outside the temperature range of the source data (extrapolated by scaling).
+#: Flag bit: outside the source range of the data (the value leans on their documented continuation).
 FLAG_BEYOND_SOURCE = 2
 #: Flag bit: outside the table grid (extrapolated; only when asked for).
 FLAG_OUTSIDE_GRID = 4
