@@ -37,12 +37,14 @@ pub fn exp(x: f64) -> f64 {
     let kf = shifted - SHIFT;
     let hi = x - kf * LN2_HI;
     let r = hi - kf * LN2_LO;
-    let q = C2
-        + r * (C3
-            + r * (C4
-                + r * (C5
-                    + r * (C6
-                        + r * (C7 + r * (C8 + r * (C9 + r * (C10 + r * (C11 + r * (C12 + r * C13))))))))));
+    // Horner's rule, innermost first: q = C2 + r (C3 + r (... + r C13)). Written as a loop
+    // over the coefficients (unrolled by the compiler) rather than one nested expression,
+    // which rustfmt takes about a minute to lay out; the operations and their order are the
+    // same.
+    let mut q = C13;
+    for c in [C12, C11, C10, C9, C8, C7, C6, C5, C4, C3, C2] {
+        q = c + r * q;
+    }
     let p = 1.0 + (r + (r * r) * q);
     // 2^k = 2^k1 * 2^k2 with both halves normal for k in [-1076, 1024]: k1 = floor(k / 2)
     // taken with a logical shift of the positive k + 2048 (cheaper in SIMD than an
