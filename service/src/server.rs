@@ -12,6 +12,7 @@ use crate::api::rates::RatesHandler;
 use crate::api::transport::TransportHandler;
 use crate::config::Config;
 use crate::engine::{Engine, EngineError};
+use crate::linger::LingeringStream;
 use ratewell_proto::pb::{
     admin_server::AdminServer, catalogue_server::CatalogueServer, consistency_server::ConsistencyServer,
     populations_server::PopulationsServer, rates_server::RatesServer, transport_server::TransportServer,
@@ -21,6 +22,7 @@ use std::time::{Duration, Instant};
 use tokio::net::TcpListener;
 use tokio_stream::StreamExt;
 use tokio_stream::wrappers::TcpListenerStream;
+use tokio_util::task::TaskTracker;
 
 /// Why the server could not start or stopped with an error.
 #[derive(Debug, thiserror::Error)]
@@ -197,13 +199,16 @@ pub async fn serve(
         tracing::warn!("benchmark-only Transport service enabled");
     }
 
-    // serve_with_incoming ignores the builder's nodelay flag, so set it per connection.
+    // serve_with_incoming ignores the builder's nodelay flag, so set it per connection; every
+    // connection closes by lingering (see `linger`), tracked so the stop can wait for it.
     let local = listener.local_addr().ok();
-    let incoming = TcpListenerStream::new(listener).map(|conn| {
-        if let Ok(stream) = &conn {
+    let closing = TaskTracker::new();
+    let tracker = closing.clone();
+    let incoming = TcpListenerStream::new(listener).map(move |conn| {
+        conn.map(|stream| {
             let _ = stream.set_nodelay(true);
-        }
-        conn
+            LingeringStream::new(stream, tracker.clone())
+        })
     });
     tracing::info!(
         listen = ?local,
@@ -240,8 +245,9 @@ pub async fn serve(
     health.set_not_serving::<AdminServer<AdminHandler>>().await;
     tokio::time::sleep(config.drain).await;
     let _ = stop_tx.send(());
+    let deadline = tokio::time::Instant::now() + config.shutdown_grace;
     let abort = server.abort_handle();
-    match tokio::time::timeout(config.shutdown_grace, server).await {
+    match tokio::time::timeout_at(deadline, server).await {
         Ok(joined) => joined??,
         Err(_) => {
             tracing::warn!(
@@ -251,6 +257,13 @@ pub async fn serve(
             state.cut_in_flight();
             abort.abort();
         }
+    }
+    // Closed connections drain their peers' last bytes, so the final answers arrive whole;
+    // this wait stays within the grace period (and at most one linger).
+    closing.close();
+    let linger_end = deadline.min(tokio::time::Instant::now() + crate::linger::LINGER);
+    if tokio::time::timeout_at(linger_end, closing.wait()).await.is_err() {
+        tracing::debug!(open = closing.len(), "closing connections still draining at stop");
     }
     tracing::info!("stopped");
     Ok(())
