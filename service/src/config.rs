@@ -76,6 +76,10 @@ pub struct Config {
     pub benchmark_endpoints: bool,
     /// Log as JSON lines instead of text.
     pub json_logs: bool,
+    /// File of `NAME TOKEN` lines (see [`crate::auth`]); without it Admin calls are refused.
+    pub tokens_file: Option<PathBuf>,
+    /// Which calls need a bearer token: Admin only, or every call but health checks.
+    pub auth_scope: crate::auth::Scope,
 }
 
 impl Default for Config {
@@ -98,6 +102,8 @@ impl Default for Config {
             shutdown_grace: Duration::from_secs(10),
             benchmark_endpoints: false,
             json_logs: false,
+            tokens_file: None,
+            auth_scope: crate::auth::Scope::Admin,
         }
     }
 }
@@ -156,6 +162,14 @@ pub struct Flags {
     /// Log JSON lines.
     #[arg(long, env = "RATEWELL_JSON_LOGS")]
     pub json_logs: bool,
+    /// File of `NAME TOKEN` lines: bearer tokens accepted for Admin (and, with
+    /// `--auth-scope all`, for every call). Without it every Admin call is refused.
+    #[arg(long, env = "RATEWELL_TOKENS_FILE")]
+    pub tokens_file: Option<PathBuf>,
+    /// Which calls need a token: `admin` (Admin only) or `all` (all but health checks)
+    /// [default: admin].
+    #[arg(long, env = "RATEWELL_AUTH_SCOPE", value_enum)]
+    pub auth_scope: Option<crate::auth::Scope>,
 }
 
 /// The settings a config file may hold (all optional).
@@ -180,6 +194,8 @@ struct FileSettings {
     shutdown_grace_s: Option<f64>,
     benchmark_endpoints: Option<bool>,
     json_logs: Option<bool>,
+    tokens_file: Option<PathBuf>,
+    auth_scope: Option<crate::auth::Scope>,
 }
 
 fn seconds(field: &'static str, s: f64) -> Result<Duration, ConfigError> {
@@ -238,6 +254,12 @@ impl Config {
         if let Some(v) = flags.shutdown_grace_s {
             c.shutdown_grace = seconds("shutdown_grace_s", v)?;
         }
+        if let Some(v) = &flags.tokens_file {
+            c.tokens_file = Some(v.clone());
+        }
+        if let Some(v) = flags.auth_scope {
+            c.auth_scope = v;
+        }
         c.benchmark_endpoints |= flags.benchmark_endpoints;
         c.json_logs |= flags.json_logs;
         c.validate()?;
@@ -256,13 +278,22 @@ impl Config {
         if let Some(v) = f.listen {
             self.listen = v;
         }
-        if let Some(v) = f.data_dir {
-            // Relative paths in a config file are relative to the file.
-            self.data_dir = Some(if v.is_relative() {
+        // Relative paths in a config file are relative to the file.
+        let beside = |v: PathBuf| {
+            if v.is_relative() {
                 path.parent().unwrap_or(Path::new(".")).join(v)
             } else {
                 v
-            });
+            }
+        };
+        if let Some(v) = f.data_dir {
+            self.data_dir = Some(beside(v));
+        }
+        if let Some(v) = f.tokens_file {
+            self.tokens_file = Some(beside(v));
+        }
+        if let Some(v) = f.auth_scope {
+            self.auth_scope = v;
         }
         if let Some(v) = f.demo {
             self.demo = v;
@@ -350,6 +381,13 @@ impl Config {
                     allowed: "must be at least 1 (1024 for max_message_bytes)",
                 });
             }
+        }
+        if self.auth_scope == crate::auth::Scope::All && self.tokens_file.is_none() {
+            return Err(ConfigError::Invalid {
+                field: "auth_scope",
+                value: "all".into(),
+                allowed: "auth_scope = all needs a tokens_file (otherwise no call could succeed)",
+            });
         }
         if !self.demo && self.data_dir.is_none() {
             return Err(ConfigError::Invalid {

@@ -10,12 +10,14 @@
 //! - [`engine`]: the pure core behind the handlers: loaded datasets, lookups, population
 //!   solves, comparisons.
 //! - [`api`]: thin gRPC handlers, wire conversions and the one error-to-status mapping.
+//! - [`auth`]: bearer tokens (Admin always, every call when configured) and the audit log.
 //! - [`config`]: every setting and limit, from defaults, file, environment and flags.
 //! - [`server`]: `run(listener, config, shutdown)`, used by the binary and the tests.
 //! - [`linger`]: lingering close of accepted connections, so last answers arrive whole.
 //! - [`memory`]: hands memory freed after a dataset load back to the operating system.
 
 pub mod api;
+pub mod auth;
 pub mod config;
 pub mod dataset;
 pub mod engine;

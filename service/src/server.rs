@@ -10,6 +10,7 @@ use crate::api::consistency::ConsistencyHandler;
 use crate::api::populations::PopulationsHandler;
 use crate::api::rates::RatesHandler;
 use crate::api::transport::TransportHandler;
+use crate::auth::{AuthLayer, Gate};
 use crate::config::Config;
 use crate::engine::{Engine, EngineError};
 use crate::linger::LingeringStream;
@@ -38,6 +39,9 @@ pub enum ServerError {
     /// Reflection could not be built from the descriptor set.
     #[error("reflection setup failed: {0}")]
     Reflection(#[from] tonic_reflection::server::Error),
+    /// The tokens file could not be read or breaks its format.
+    #[error("start-up failed: {0}")]
+    Tokens(#[from] crate::auth::TokensFileError),
     /// A start-up task panicked or was cancelled.
     #[error("start-up task failed: {0}")]
     Join(#[from] tokio::task::JoinError),
@@ -129,6 +133,10 @@ pub async fn serve(
     shutdown: impl Future<Output = ()> + Send + 'static,
     started: Instant,
 ) -> Result<(), ServerError> {
+    let gate = match &config.tokens_file {
+        Some(path) => Gate::from_file(path, config.auth_scope)?,
+        None => Gate::closed_admin(),
+    };
     let (health, health_service) = tonic_health::server::health_reporter();
     let state = AppState::new(engine, config.max_in_flight)
         .with_request_timeout(config.request_timeout)
@@ -184,7 +192,8 @@ pub async fn serve(
         .http2_keepalive_interval(Some(config.keepalive_interval))
         .http2_keepalive_timeout(Some(config.keepalive_timeout))
         .tcp_nodelay(true)
-        .layer(tonic::service::InterceptorLayer::new(crate::api::record_arrival));
+        .layer(tonic::service::InterceptorLayer::new(crate::api::record_arrival))
+        .layer(AuthLayer::new(gate.clone()));
     let mut router = builder
         .add_service(health_service)
         .add_service(reflection_v1)
@@ -220,6 +229,8 @@ pub async fn serve(
         request_timeout_s = config.request_timeout.as_secs_f64(),
         grid = ?config.default_grid,
         table_bytes = state.engine.table_bytes(),
+        tokens = gate.token_count(),
+        token_scope = gate.scope().as_str(),
         "serving"
     );
 

@@ -30,9 +30,50 @@ const START_TIMEOUT: Duration = Duration::from_secs(60);
 pub fn test_config() -> Config {
     Config {
         listen: SocketAddr::from(([127, 0, 0, 1], 0)),
+        tokens_file: Some(test_tokens_file().to_owned()),
         ..Config::default()
     }
 }
+
+/// The caller name of [`TEST_TOKEN`] in [`test_tokens_file`].
+pub const TEST_CALLER: &str = "e2e-operator";
+/// The one bearer token the test servers accept (invented for the tests).
+pub const TEST_TOKEN: &str = "e2e-token-0123456789abcdef";
+
+/// A tokens file (written once per test process) naming [`TEST_CALLER`] with [`TEST_TOKEN`].
+pub fn test_tokens_file() -> &'static std::path::Path {
+    static FILE: std::sync::OnceLock<std::path::PathBuf> = std::sync::OnceLock::new();
+    FILE.get_or_init(|| {
+        let dir = std::env::temp_dir().join(format!("ratewell-e2e-tokens-{}", std::process::id()));
+        std::fs::create_dir_all(&dir).expect("tokens dir");
+        let path = dir.join("tokens");
+        std::fs::write(&path, format!("# test tokens\n{TEST_CALLER} {TEST_TOKEN}\n")).expect("tokens file");
+        path
+    })
+}
+
+/// Adds `authorization: Bearer <token>` to every request (nothing when `None`).
+#[derive(Clone)]
+pub struct Bearer(pub Option<tonic::metadata::MetadataValue<tonic::metadata::Ascii>>);
+
+impl Bearer {
+    /// The header for `token`, or none.
+    pub fn new(token: Option<&str>) -> Self {
+        Self(token.map(|t| format!("Bearer {t}").parse().expect("visible ASCII token")))
+    }
+}
+
+impl tonic::service::Interceptor for Bearer {
+    fn call(&mut self, mut request: tonic::Request<()>) -> Result<tonic::Request<()>, tonic::Status> {
+        if let Some(header) = &self.0 {
+            request.metadata_mut().insert("authorization", header.clone());
+        }
+        Ok(request)
+    }
+}
+
+/// A client type whose calls carry a bearer token.
+pub type WithToken = tonic::service::interceptor::InterceptedService<Channel, Bearer>;
 
 /// A running server and a connected channel to it.
 pub struct TestServer {
@@ -156,9 +197,14 @@ impl TestServer {
             .max_encoding_message_size(CLIENT_MAX_MESSAGE_BYTES)
     }
 
-    /// Admin client.
-    pub fn admin(&self) -> AdminClient<Channel> {
-        AdminClient::new(self.channel())
+    /// Admin client carrying [`TEST_TOKEN`].
+    pub fn admin(&self) -> AdminClient<WithToken> {
+        self.admin_with(Some(TEST_TOKEN))
+    }
+
+    /// Admin client carrying `token` (or no `authorization` header).
+    pub fn admin_with(&self, token: Option<&str>) -> AdminClient<WithToken> {
+        AdminClient::with_interceptor(self.channel(), Bearer::new(token))
     }
 
     /// Benchmark-only Transport client.

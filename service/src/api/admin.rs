@@ -2,6 +2,7 @@
 
 use super::convert::stamp;
 use super::{AppState, deadline_of};
+use crate::auth::Caller;
 use ratewell_proto::pb::{self, admin_server::Admin};
 use tonic::{Request, Response, Status};
 
@@ -16,12 +17,40 @@ impl Admin for AdminHandler {
         request: Request<pb::LoadDatasetRequest>,
     ) -> Result<Response<pb::LoadDatasetResponse>, Status> {
         let deadline = deadline_of(&request);
+        let caller = request
+            .extensions()
+            .get::<Caller>()
+            .map_or_else(|| "(none)".to_owned(), |c| c.0.clone());
+        let peer = request.remote_addr();
         let folder = request.into_inner().folder;
         let log_folder = folder.clone();
         let result = self
             .0
             .run(deadline, move |engine| engine.load_folder(&folder))
             .await;
+        // The audit trail: who asked for what and how it ended, one line per admin call.
+        match &result {
+            Ok(report) => tracing::info!(
+                target: "ratewell::audit",
+                caller = %caller,
+                peer = ?peer,
+                method = "LoadDataset",
+                folder = ?log_folder,
+                result = "ok",
+                dataset = %report.stamp.label(),
+                hash = %report.stamp.content_hash,
+                "admin call"
+            ),
+            Err(status) => tracing::warn!(
+                target: "ratewell::audit",
+                caller = %caller,
+                peer = ?peer,
+                method = "LoadDataset",
+                folder = ?log_folder,
+                result = ?status.code(),
+                "admin call"
+            ),
+        }
         match &result {
             Ok(report) => tracing::info!(
                 folder = %log_folder,

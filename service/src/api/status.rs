@@ -1,6 +1,7 @@
 //! The one place engine errors become gRPC statuses. The match is exhaustive with no catch-all
 //! arm, so a new error variant forces a decision about its code.
 
+use crate::auth::Refusal;
 use crate::dataset::DatasetError;
 use crate::engine::EngineError;
 use crate::tables::TableError;
@@ -38,15 +39,25 @@ pub fn to_status(error: &EngineError) -> Status {
     }
 }
 
+/// A call refused by authentication: UNAUTHENTICATED, whatever the reason (gRPC status code
+/// guide: the request does not have valid authentication credentials).
+pub fn refusal_status(refusal: &Refusal) -> Status {
+    match refusal {
+        Refusal::Missing { .. } | Refusal::Malformed | Refusal::Unknown | Refusal::NoTokens => {
+            Status::unauthenticated(refusal.to_string())
+        }
+    }
+}
+
 fn load_status(error: &DatasetError, message: String) -> Status {
     match error {
         DatasetError::Io { source, .. } if source.kind() == std::io::ErrorKind::NotFound => {
             Status::not_found(message)
         }
         DatasetError::Io { .. } => Status::unavailable(message),
-        DatasetError::MissingManifest { .. } | DatasetError::Invalid { .. } => {
-            Status::failed_precondition(message)
-        }
+        DatasetError::MissingManifest { .. }
+        | DatasetError::Invalid { .. }
+        | DatasetError::Escapes { .. } => Status::failed_precondition(message),
     }
 }
 

@@ -9,36 +9,75 @@ use super::model::Dataset;
 
 /// Load the dataset in folder `dir`: its manifest `dataset.toml` and species files.
 pub fn load_folder(dir: &Path) -> Result<Dataset, DatasetError> {
-    let io = |path: &Path| {
-        let path = path.to_path_buf();
+    read_folder(dir, &dir.display().to_string(), None)
+}
+
+/// Load the dataset in folder `name` of the data folder `root`, confined to it: the folder and
+/// its files may be symbolic links only to places inside `root`, and every path in an error is
+/// shown relative to `root` (no absolute paths, nothing read from outside).
+pub fn load_folder_within(root: &Path, name: &str) -> Result<Dataset, DatasetError> {
+    let io = |shown: &str| {
+        let path = PathBuf::from(shown);
+        move |source| DatasetError::Io { path, source }
+    };
+    let inside = std::fs::canonicalize(root).map_err(io("(the data folder)"))?;
+    let dir = root.join(name);
+    confine(&dir, name, &inside)?;
+    read_folder(&dir, name, Some(&inside))
+}
+
+/// Refuses `path` (shown as `shown`) when it is a symbolic link whose target is outside
+/// `inside` (a canonical folder). A missing path passes: reading it reports the real cause.
+fn confine(path: &Path, shown: &str, inside: &Path) -> Result<(), DatasetError> {
+    let is_link = std::fs::symlink_metadata(path).is_ok_and(|m| m.file_type().is_symlink());
+    if !is_link {
+        return Ok(());
+    }
+    match std::fs::canonicalize(path) {
+        Ok(target) if target.starts_with(inside) => Ok(()),
+        _ => Err(DatasetError::Escapes {
+            path: shown.to_owned(),
+        }),
+    }
+}
+
+/// Reads folder `dir`, naming it `shown` in errors; with `inside`, symbolic links leading out
+/// of that canonical folder are refused.
+fn read_folder(dir: &Path, shown: &str, inside: Option<&Path>) -> Result<Dataset, DatasetError> {
+    let io = |shown: String| {
+        let path = PathBuf::from(shown);
         move |source| DatasetError::Io { path, source }
     };
     let manifest_path = dir.join(MANIFEST_FILE);
     if !manifest_path.is_file() {
         if !dir.is_dir() {
             // Name the real cause (missing folder, permissions) rather than the manifest.
-            std::fs::read_dir(dir).map_err(io(dir))?;
+            std::fs::read_dir(dir).map_err(io(shown.to_owned()))?;
         }
         return Err(DatasetError::MissingManifest {
-            location: dir.display().to_string(),
+            location: shown.to_owned(),
         });
     }
     let mut files: Vec<(String, String)> = Vec::new();
-    for entry in std::fs::read_dir(dir).map_err(io(dir))? {
-        let path = entry.map_err(io(dir))?.path();
+    for entry in std::fs::read_dir(dir).map_err(io(shown.to_owned()))? {
+        let path = entry.map_err(io(shown.to_owned()))?.path();
         let is_toml = path.extension().is_some_and(|e| e == "toml");
-        if is_toml
-            && path.is_file()
-            && let Some(name) = path.file_name().and_then(|n| n.to_str())
-        {
-            let text = std::fs::read_to_string(&path).map_err(io(&path))?;
+        if is_toml && let Some(name) = path.file_name().and_then(|n| n.to_str()) {
+            let shown_file = format!("{shown}/{name}");
+            if let Some(inside) = inside {
+                confine(&path, &shown_file, inside)?;
+            }
+            if !path.is_file() {
+                continue;
+            }
+            let text = std::fs::read_to_string(&path).map_err(io(shown_file))?;
             files.push((name.to_string(), text));
         }
     }
     files.sort();
     let pairs: Vec<(&str, &str)> = files.iter().map(|(n, t)| (n.as_str(), t.as_str())).collect();
-    let prefix = format!("{}/", dir.display());
-    assemble(&prefix, &dir.display().to_string(), &pairs)
+    let prefix = format!("{shown}/");
+    assemble(&prefix, shown, &pairs)
 }
 
 /// The sub-folders of `data_dir` that hold a manifest `dataset.toml`, sorted by path.

@@ -37,6 +37,13 @@ pub enum DatasetError {
         #[source]
         source: std::io::Error,
     },
+    /// A folder or file of a dataset is a symbolic link that leads out of the data folder
+    /// (`path` relative to the data folder; where it leads is never shown).
+    #[error("{path} is a symbolic link leading out of the data folder; links must stay inside it")]
+    Escapes {
+        /// The link, relative to the data folder.
+        path: String,
+    },
     /// A dataset folder (or set of embedded files) has no manifest `dataset.toml`.
     #[error("no dataset manifest `{}` in {location}", super::MANIFEST_FILE)]
     MissingManifest {
@@ -56,7 +63,9 @@ impl DatasetError {
     pub fn problems(&self) -> Vec<&Problem> {
         match self {
             DatasetError::Invalid { problems } => problems.iter().collect(),
-            DatasetError::Io { .. } | DatasetError::MissingManifest { .. } => Vec::new(),
+            DatasetError::Io { .. } | DatasetError::MissingManifest { .. } | DatasetError::Escapes { .. } => {
+                Vec::new()
+            }
         }
     }
 }

@@ -165,7 +165,7 @@ mod reader;
 pub mod units;
 pub mod validate;
 
-pub use catalogue::{find_dataset_dirs, load_folder};
+pub use catalogue::{find_dataset_dirs, load_folder, load_folder_within};
 pub use embedded::{EMBEDDED_DEMO_FILES, EMBEDDED_DEMO_ORIGIN, demo_dataset};
 pub use error::{DatasetError, Problem};
 pub use format::FORMAT_VERSION;

@@ -275,7 +275,7 @@ impl Engine {
                 "must be one folder name inside the data folder (no path separators or ..)",
             ));
         }
-        self.load_path(&root.join(name))
+        self.install(dataset::load_folder_within(root, name)?)
     }
 
     /// Every loaded dataset.

@@ -1,0 +1,84 @@
+//! The server layer that applies a [`Gate`] to every call before routing: a refused call is
+//! answered UNAUTHENTICATED at once; an admitted one carries its [`Caller`] in the extensions.
+
+use super::Gate;
+use crate::api::status::refusal_status;
+use std::sync::Arc;
+use std::task::{Context, Poll};
+
+/// Tower layer applying `gate` to every request.
+#[derive(Debug, Clone)]
+pub struct AuthLayer {
+    gate: Arc<Gate>,
+}
+
+impl AuthLayer {
+    /// The layer over `gate`.
+    pub fn new(gate: Gate) -> Self {
+        Self { gate: Arc::new(gate) }
+    }
+}
+
+impl<S> tower_layer::Layer<S> for AuthLayer {
+    type Service = AuthService<S>;
+
+    fn layer(&self, inner: S) -> AuthService<S> {
+        AuthService {
+            inner,
+            gate: Arc::clone(&self.gate),
+        }
+    }
+}
+
+/// The service [`AuthLayer`] wraps around the routes.
+#[derive(Debug, Clone)]
+pub struct AuthService<S> {
+    inner: S,
+    gate: Arc<Gate>,
+}
+
+impl<S, B, RB> tower_service::Service<http::Request<B>> for AuthService<S>
+where
+    S: tower_service::Service<http::Request<B>, Response = http::Response<RB>>,
+    RB: Default,
+{
+    type Response = http::Response<RB>;
+    type Error = S::Error;
+    type Future =
+        futures::future::Either<futures::future::Ready<Result<http::Response<RB>, S::Error>>, S::Future>;
+
+    fn poll_ready(&mut self, cx: &mut Context<'_>) -> Poll<Result<(), Self::Error>> {
+        self.inner.poll_ready(cx)
+    }
+
+    fn call(&mut self, mut request: http::Request<B>) -> Self::Future {
+        let header = request
+            .headers()
+            .get(http::header::AUTHORIZATION)
+            .map(http::HeaderValue::as_bytes);
+        match self.gate.check(request.uri().path(), header) {
+            Ok(caller) => {
+                if let Some(caller) = caller {
+                    request.extensions_mut().insert(caller);
+                }
+                futures::future::Either::Right(self.inner.call(request))
+            }
+            Err(refusal) => {
+                let peer = request
+                    .extensions()
+                    .get::<tonic::transport::server::TcpConnectInfo>()
+                    .and_then(|c| c.remote_addr);
+                tracing::warn!(
+                    target: "ratewell::audit",
+                    peer = ?peer,
+                    method = ?request.uri().path(),
+                    refused = %refusal,
+                    "call refused before its handler"
+                );
+                futures::future::Either::Left(futures::future::ready(
+                    Ok(refusal_status(&refusal).into_http()),
+                ))
+            }
+        }
+    }
+}
