@@ -80,6 +80,10 @@ pub struct Config {
     pub tokens_file: Option<PathBuf>,
     /// Which calls need a bearer token: Admin only, or every call but health checks.
     pub auth_scope: crate::auth::Scope,
+    /// PEM certificate chain for TLS (with `tls_key_file`); without both, plain HTTP/2.
+    pub tls_cert_file: Option<PathBuf>,
+    /// PEM private key of `tls_cert_file`.
+    pub tls_key_file: Option<PathBuf>,
 }
 
 impl Default for Config {
@@ -104,6 +108,8 @@ impl Default for Config {
             json_logs: false,
             tokens_file: None,
             auth_scope: crate::auth::Scope::Admin,
+            tls_cert_file: None,
+            tls_key_file: None,
         }
     }
 }
@@ -170,6 +176,13 @@ pub struct Flags {
     /// [default: admin].
     #[arg(long, env = "RATEWELL_AUTH_SCOPE", value_enum)]
     pub auth_scope: Option<crate::auth::Scope>,
+    /// PEM certificate chain (leaf first): serve TLS instead of plain HTTP/2 (needs
+    /// `--tls-key-file`).
+    #[arg(long, env = "RATEWELL_TLS_CERT_FILE")]
+    pub tls_cert_file: Option<PathBuf>,
+    /// PEM private key of the TLS certificate.
+    #[arg(long, env = "RATEWELL_TLS_KEY_FILE")]
+    pub tls_key_file: Option<PathBuf>,
 }
 
 /// The settings a config file may hold (all optional).
@@ -196,6 +209,8 @@ struct FileSettings {
     json_logs: Option<bool>,
     tokens_file: Option<PathBuf>,
     auth_scope: Option<crate::auth::Scope>,
+    tls_cert_file: Option<PathBuf>,
+    tls_key_file: Option<PathBuf>,
 }
 
 fn seconds(field: &'static str, s: f64) -> Result<Duration, ConfigError> {
@@ -260,6 +275,12 @@ impl Config {
         if let Some(v) = flags.auth_scope {
             c.auth_scope = v;
         }
+        if let Some(v) = &flags.tls_cert_file {
+            c.tls_cert_file = Some(v.clone());
+        }
+        if let Some(v) = &flags.tls_key_file {
+            c.tls_key_file = Some(v.clone());
+        }
         c.benchmark_endpoints |= flags.benchmark_endpoints;
         c.json_logs |= flags.json_logs;
         c.validate()?;
@@ -294,6 +315,12 @@ impl Config {
         }
         if let Some(v) = f.auth_scope {
             self.auth_scope = v;
+        }
+        if let Some(v) = f.tls_cert_file {
+            self.tls_cert_file = Some(beside(v));
+        }
+        if let Some(v) = f.tls_key_file {
+            self.tls_key_file = Some(beside(v));
         }
         if let Some(v) = f.demo {
             self.demo = v;
@@ -387,6 +414,17 @@ impl Config {
                 field: "auth_scope",
                 value: "all".into(),
                 allowed: "auth_scope = all needs a tokens_file (otherwise no call could succeed)",
+            });
+        }
+        if self.tls_cert_file.is_some() != self.tls_key_file.is_some() {
+            return Err(ConfigError::Invalid {
+                field: "tls_cert_file",
+                value: format!(
+                    "{} certificate, {} key",
+                    if self.tls_cert_file.is_some() { "a" } else { "no" },
+                    if self.tls_key_file.is_some() { "a" } else { "no" }
+                ),
+                allowed: "TLS needs both tls_cert_file and tls_key_file, or neither",
             });
         }
         if !self.demo && self.data_dir.is_none() {

@@ -14,6 +14,7 @@
 //! - [`config`]: every setting and limit, from defaults, file, environment and flags.
 //! - [`server`]: `run(listener, config, shutdown)`, used by the binary and the tests.
 //! - [`linger`]: lingering close of accepted connections, so last answers arrive whole.
+//! - [`tls`]: the server's TLS certificate and key from PEM files.
 //! - [`memory`]: hands memory freed after a dataset load back to the operating system.
 
 pub mod api;
@@ -26,3 +27,4 @@ pub mod memory;
 pub mod physics;
 pub mod server;
 pub mod tables;
+pub mod tls;

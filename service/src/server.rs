@@ -42,6 +42,9 @@ pub enum ServerError {
     /// The tokens file could not be read or breaks its format.
     #[error("start-up failed: {0}")]
     Tokens(#[from] crate::auth::TokensFileError),
+    /// The TLS certificate or key could not be read.
+    #[error("start-up failed: {0}")]
+    Tls(#[from] crate::tls::TlsError),
     /// A start-up task panicked or was cancelled.
     #[error("start-up task failed: {0}")]
     Join(#[from] tokio::task::JoinError),
@@ -194,6 +197,9 @@ pub async fn serve(
         .tcp_nodelay(true)
         .layer(tonic::service::InterceptorLayer::new(crate::api::record_arrival))
         .layer(AuthLayer::new(gate.clone()));
+    if let (Some(cert), Some(key)) = (&config.tls_cert_file, &config.tls_key_file) {
+        builder = builder.tls_config(crate::tls::server_tls(cert, key)?)?;
+    }
     let mut router = builder
         .add_service(health_service)
         .add_service(reflection_v1)
@@ -229,6 +235,7 @@ pub async fn serve(
         request_timeout_s = config.request_timeout.as_secs_f64(),
         grid = ?config.default_grid,
         table_bytes = state.engine.table_bytes(),
+        tls = config.tls_cert_file.is_some(),
         tokens = gate.token_count(),
         token_scope = gate.scope().as_str(),
         "serving"

@@ -101,6 +101,20 @@ impl TestServer {
     /// As [`Self::start_with`], but returns the server's error if it stops before serving
     /// (for tests of start-up failures).
     pub async fn try_start(config: Config) -> Result<Self, ServerError> {
+        Self::try_start_via(config, |addr| {
+            Endpoint::from_shared(format!("http://{addr}"))
+                .expect("a valid loopback URL")
+                .connect_lazy()
+        })
+        .await
+    }
+
+    /// As [`Self::try_start`], with the shared channel made by `connect` from the listening
+    /// address (a TLS channel, say).
+    pub async fn try_start_via(
+        config: Config,
+        connect: impl FnOnce(SocketAddr) -> Channel,
+    ) -> Result<Self, ServerError> {
         let listener = TcpListener::bind(SocketAddr::from(([127, 0, 0, 1], 0)))
             .await
             .expect("bind 127.0.0.1:0");
@@ -109,9 +123,7 @@ impl TestServer {
         let task = tokio::spawn(server::run(listener, config, async move {
             let _ = stopped.await;
         }));
-        let channel = Endpoint::from_shared(format!("http://{addr}"))
-            .expect("a valid loopback URL")
-            .connect_lazy();
+        let channel = connect(addr);
         let mut server = Self {
             addr,
             channel,

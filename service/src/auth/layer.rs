@@ -6,6 +6,19 @@ use crate::api::status::refusal_status;
 use std::sync::Arc;
 use std::task::{Context, Poll};
 
+/// The peer address of a connection, plain or TLS.
+fn peer_of(extensions: &http::Extensions) -> Option<std::net::SocketAddr> {
+    use tonic::transport::server::{TcpConnectInfo, TlsConnectInfo};
+    extensions
+        .get::<TcpConnectInfo>()
+        .and_then(TcpConnectInfo::remote_addr)
+        .or_else(|| {
+            extensions
+                .get::<TlsConnectInfo<TcpConnectInfo>>()
+                .and_then(|c| c.get_ref().remote_addr())
+        })
+}
+
 /// Tower layer applying `gate` to every request.
 #[derive(Debug, Clone)]
 pub struct AuthLayer {
@@ -64,10 +77,7 @@ where
                 futures::future::Either::Right(self.inner.call(request))
             }
             Err(refusal) => {
-                let peer = request
-                    .extensions()
-                    .get::<tonic::transport::server::TcpConnectInfo>()
-                    .and_then(|c| c.remote_addr);
+                let peer = peer_of(request.extensions());
                 tracing::warn!(
                     target: "ratewell::audit",
                     peer = ?peer,
