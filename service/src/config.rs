@@ -84,6 +84,8 @@ pub struct Config {
     pub tls_cert_file: Option<PathBuf>,
     /// PEM private key of `tls_cert_file`.
     pub tls_key_file: Option<PathBuf>,
+    /// Address of the plain-HTTP Prometheus endpoint (`GET /metrics`); `None` serves none.
+    pub metrics_listen: Option<SocketAddr>,
 }
 
 impl Default for Config {
@@ -110,6 +112,7 @@ impl Default for Config {
             auth_scope: crate::auth::Scope::Admin,
             tls_cert_file: None,
             tls_key_file: None,
+            metrics_listen: None,
         }
     }
 }
@@ -183,6 +186,10 @@ pub struct Flags {
     /// PEM private key of the TLS certificate.
     #[arg(long, env = "RATEWELL_TLS_KEY_FILE")]
     pub tls_key_file: Option<PathBuf>,
+    /// Serve Prometheus metrics at http://ADDRESS/metrics (plain HTTP; keep it internal)
+    /// [default: none].
+    #[arg(long, env = "RATEWELL_METRICS_LISTEN")]
+    pub metrics_listen: Option<SocketAddr>,
 }
 
 /// The settings a config file may hold (all optional).
@@ -211,6 +218,7 @@ struct FileSettings {
     auth_scope: Option<crate::auth::Scope>,
     tls_cert_file: Option<PathBuf>,
     tls_key_file: Option<PathBuf>,
+    metrics_listen: Option<SocketAddr>,
 }
 
 fn seconds(field: &'static str, s: f64) -> Result<Duration, ConfigError> {
@@ -281,6 +289,9 @@ impl Config {
         if let Some(v) = &flags.tls_key_file {
             c.tls_key_file = Some(v.clone());
         }
+        if let Some(v) = flags.metrics_listen {
+            c.metrics_listen = Some(v);
+        }
         c.benchmark_endpoints |= flags.benchmark_endpoints;
         c.json_logs |= flags.json_logs;
         c.validate()?;
@@ -321,6 +332,9 @@ impl Config {
         }
         if let Some(v) = f.tls_key_file {
             self.tls_key_file = Some(beside(v));
+        }
+        if let Some(v) = f.metrics_listen {
+            self.metrics_listen = Some(v);
         }
         if let Some(v) = f.demo {
             self.demo = v;

@@ -15,6 +15,7 @@
 //! - [`server`]: `run(listener, config, shutdown)`, used by the binary and the tests.
 //! - [`linger`]: lingering close of accepted connections, so last answers arrive whole.
 //! - [`tls`]: the server's TLS certificate and key from PEM files.
+//! - [`metrics`]: Prometheus metrics and their plain-HTTP endpoint.
 //! - [`memory`]: hands memory freed after a dataset load back to the operating system.
 
 pub mod api;
@@ -24,6 +25,7 @@ pub mod dataset;
 pub mod engine;
 pub mod linger;
 pub mod memory;
+pub mod metrics;
 pub mod physics;
 pub mod server;
 pub mod tables;

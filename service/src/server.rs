@@ -14,11 +14,13 @@ use crate::auth::{AuthLayer, Gate};
 use crate::config::Config;
 use crate::engine::{Engine, EngineError};
 use crate::linger::LingeringStream;
+use crate::metrics::MetricsLayer;
 use ratewell_proto::pb::{
     admin_server::AdminServer, catalogue_server::CatalogueServer, consistency_server::ConsistencyServer,
     populations_server::PopulationsServer, rates_server::RatesServer, transport_server::TransportServer,
 };
 use std::future::Future;
+use std::sync::Arc;
 use std::time::{Duration, Instant};
 use tokio::net::TcpListener;
 use tokio_stream::StreamExt;
@@ -45,6 +47,14 @@ pub enum ServerError {
     /// The TLS certificate or key could not be read.
     #[error("start-up failed: {0}")]
     Tls(#[from] crate::tls::TlsError),
+    /// The metrics address could not be bound.
+    #[error("cannot listen for metrics on {addr}: {source}")]
+    MetricsBind {
+        /// The configured `metrics_listen`.
+        addr: std::net::SocketAddr,
+        /// The I/O error.
+        source: std::io::Error,
+    },
     /// A start-up task panicked or was cancelled.
     #[error("start-up task failed: {0}")]
     Join(#[from] tokio::task::JoinError),
@@ -195,6 +205,7 @@ pub async fn serve(
         .http2_keepalive_interval(Some(config.keepalive_interval))
         .http2_keepalive_timeout(Some(config.keepalive_timeout))
         .tcp_nodelay(true)
+        .layer(MetricsLayer::new(Arc::clone(&state.metrics)))
         .layer(tonic::service::InterceptorLayer::new(crate::api::record_arrival))
         .layer(AuthLayer::new(gate.clone()));
     if let (Some(cert), Some(key)) = (&config.tls_cert_file, &config.tls_key_file) {
@@ -241,6 +252,24 @@ pub async fn serve(
         "serving"
     );
 
+    let (metrics_stop, metrics_stopped) = tokio::sync::oneshot::channel::<()>();
+    let metrics_task = match config.metrics_listen {
+        Some(addr) => {
+            let listener = TcpListener::bind(addr)
+                .await
+                .map_err(|source| ServerError::MetricsBind { addr, source })?;
+            tracing::info!(listen = ?listener.local_addr().ok(), "metrics at /metrics");
+            Some(tokio::spawn(crate::metrics::endpoint::serve(
+                listener,
+                Arc::clone(&state.metrics),
+                state.clone(),
+                async move {
+                    let _ = metrics_stopped.await;
+                },
+            )))
+        }
+        None => None,
+    };
     let (stop_tx, stop_rx) = tokio::sync::oneshot::channel::<()>();
     let server = tokio::spawn(router.serve_with_incoming_shutdown(incoming, async {
         let _ = stop_rx.await;
@@ -282,6 +311,10 @@ pub async fn serve(
     let linger_end = deadline.min(tokio::time::Instant::now() + crate::linger::LINGER);
     if tokio::time::timeout_at(linger_end, closing.wait()).await.is_err() {
         tracing::debug!(open = closing.len(), "closing connections still draining at stop");
+    }
+    let _ = metrics_stop.send(());
+    if let Some(task) = metrics_task {
+        let _ = tokio::time::timeout(crate::linger::LINGER, task).await;
     }
     tracing::info!("stopped");
     Ok(())

@@ -28,6 +28,7 @@ impl Admin for AdminHandler {
             .0
             .run(deadline, move |engine| engine.load_folder(&folder))
             .await;
+        self.0.metrics.record_load(result.is_ok());
         // The audit trail: who asked for what and how it ended, one line per admin call.
         match &result {
             Ok(report) => tracing::info!(

@@ -92,6 +92,8 @@ pub struct AppState {
     request_timeout: Duration,
     cut: Arc<tokio::sync::watch::Sender<bool>>,
     health: Option<tonic_health::server::HealthReporter>,
+    /// Counters and gauges served at the metrics endpoint.
+    pub metrics: Arc<crate::metrics::Metrics>,
 }
 
 impl AppState {
@@ -106,6 +108,7 @@ impl AppState {
             request_timeout: crate::config::Config::default().request_timeout,
             cut: Arc::new(tokio::sync::watch::Sender::new(false)),
             health: None,
+            metrics: Arc::default(),
         }
     }
 
@@ -127,6 +130,12 @@ impl AppState {
     pub fn with_request_timeout(mut self, request_timeout: Duration) -> Self {
         self.request_timeout = request_timeout;
         self
+    }
+
+    /// Engine calls holding a concurrency permit now.
+    pub fn in_flight(&self) -> usize {
+        self.max_in_flight
+            .saturating_sub(self.permits.available_permits())
     }
 
     /// Ends every call still in flight with UNAVAILABLE (when the shutdown grace runs out).
@@ -175,6 +184,7 @@ impl AppState {
     /// this is worth retrying, unlike a request over a configured limit (also
     /// RESOURCE_EXHAUSTED, without a hint).
     fn busy(&self) -> Status {
+        self.metrics.record_shed();
         Status::with_error_details(
             tonic::Code::ResourceExhausted,
             format!(
