@@ -11,6 +11,7 @@
 //!   solves, comparisons.
 //! - [`api`]: thin gRPC handlers, wire conversions and the one error-to-status mapping.
 //! - [`config`]: every setting and limit, from defaults, file, environment and flags.
+//! - [`limits`]: the dataset, request, cache and connection limits and their typed refusal.
 //! - [`server`]: `run(listener, config, shutdown)`, used by the binary and the tests.
 //! - [`linger`]: lingering close of accepted connections, so last answers arrive whole.
 //! - [`memory`]: hands memory freed after a dataset load back to the operating system.
@@ -19,6 +20,7 @@ pub mod api;
 pub mod config;
 pub mod dataset;
 pub mod engine;
+pub mod limits;
 pub mod linger;
 pub mod memory;
 pub mod physics;

@@ -3,6 +3,7 @@
 //! errors to statuses in one place ([`status`]).
 
 pub mod admin;
+pub mod bounded;
 pub mod catalogue;
 pub mod consistency;
 pub mod convert;

@@ -6,9 +6,17 @@ use super::MANIFEST_FILE;
 use super::error::DatasetError;
 use super::load::assemble;
 use super::model::Dataset;
+use crate::limits::Limits;
 
-/// Load the dataset in folder `dir`: its manifest `dataset.toml` and species files.
+/// Load the dataset in folder `dir`: its manifest `dataset.toml` and species files, under the
+/// default [`Limits`].
 pub fn load_folder(dir: &Path) -> Result<Dataset, DatasetError> {
+    load_folder_within(dir, &Limits::default())
+}
+
+/// [`load_folder`] refusing any file over `limits.max_file_bytes` and a folder whose files
+/// total over `limits.max_dataset_bytes`, each before it is read.
+pub fn load_folder_within(dir: &Path, limits: &Limits) -> Result<Dataset, DatasetError> {
     let io = |path: &Path| {
         let path = path.to_path_buf();
         move |source| DatasetError::Io { path, source }
@@ -24,6 +32,7 @@ pub fn load_folder(dir: &Path) -> Result<Dataset, DatasetError> {
         });
     }
     let mut files: Vec<(String, String)> = Vec::new();
+    let mut total_bytes = 0u64;
     for entry in std::fs::read_dir(dir).map_err(io(dir))? {
         let path = entry.map_err(io(dir))?.path();
         let is_toml = path.extension().is_some_and(|e| e == "toml");
@@ -31,7 +40,7 @@ pub fn load_folder(dir: &Path) -> Result<Dataset, DatasetError> {
             && path.is_file()
             && let Some(name) = path.file_name().and_then(|n| n.to_str())
         {
-            let text = std::fs::read_to_string(&path).map_err(io(&path))?;
+            let text = super::bounded_read::read_text(&path, name, limits, &mut total_bytes)?;
             files.push((name.to_string(), text));
         }
     }
