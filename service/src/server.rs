@@ -11,6 +11,7 @@ use crate::api::populations::PopulationsHandler;
 use crate::api::rates::RatesHandler;
 use crate::api::transport::TransportHandler;
 use crate::config::Config;
+use crate::connections::ConnectionGate;
 use crate::engine::{Engine, EngineError};
 use crate::linger::LingeringStream;
 use ratewell_proto::pb::{
@@ -184,6 +185,8 @@ pub async fn serve(
         .http2_keepalive_interval(Some(config.keepalive_interval))
         .http2_keepalive_timeout(Some(config.keepalive_timeout))
         .tcp_nodelay(true)
+        .max_concurrent_streams(Some(config.limits.max_streams_per_connection))
+        .layer(crate::api::wire_status::WireStatusLayer)
         .layer(tonic::service::InterceptorLayer::new(crate::api::record_arrival));
     let mut router = builder
         .add_service(health_service)
@@ -203,12 +206,18 @@ pub async fn serve(
     // connection closes by lingering (see `linger`), tracked so the stop can wait for it.
     let local = listener.local_addr().ok();
     let closing = TaskTracker::new();
+    // Connections over max_connections are closed at accept; the others must send the HTTP/2
+    // preface within the handshake timeout (see `connections`).
     let tracker = closing.clone();
-    let incoming = TcpListenerStream::new(listener).map(move |conn| {
-        conn.map(|stream| {
+    let gate = ConnectionGate::new(config.limits.max_connections, config.limits.handshake_timeout());
+    let incoming = TcpListenerStream::new(listener).filter_map(move |conn| match conn {
+        Ok(stream) => {
             let _ = stream.set_nodelay(true);
-            LingeringStream::new(stream, tracker.clone())
-        })
+            let peer = stream.peer_addr().ok();
+            gate.admit(peer, || LingeringStream::new(stream, tracker.clone()))
+                .map(Ok)
+        }
+        Err(e) => Some(Err(e)),
     });
     tracing::info!(
         listen = ?local,
@@ -220,6 +229,9 @@ pub async fn serve(
         request_timeout_s = config.request_timeout.as_secs_f64(),
         grid = ?config.default_grid,
         table_bytes = state.engine.table_bytes(),
+        table_cache_bytes = config.limits.table_cache_bytes,
+        max_connections = config.limits.max_connections,
+        handshake_timeout_s = config.limits.handshake_timeout_s,
         "serving"
     );
 

@@ -12,6 +12,7 @@ pub mod populations;
 pub mod rates;
 pub mod status;
 pub mod transport;
+pub mod wire_status;
 
 use crate::engine::solve::Cancel;
 use crate::engine::{Engine, EngineError};
@@ -128,6 +129,11 @@ impl AppState {
     pub fn with_request_timeout(mut self, request_timeout: Duration) -> Self {
         self.request_timeout = request_timeout;
         self
+    }
+
+    /// The upper bound on any call's duration (and on a stream's silence).
+    pub fn request_timeout(&self) -> Duration {
+        self.request_timeout
     }
 
     /// Ends every call still in flight with UNAVAILABLE (when the shutdown grace runs out).
