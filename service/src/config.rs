@@ -3,6 +3,7 @@
 //! values are logged.
 
 use crate::engine::{EngineConfig, GridSpec};
+use crate::limits::Limits;
 use clap::Parser;
 use serde::Deserialize;
 use std::net::SocketAddr;
@@ -60,8 +61,9 @@ pub struct Config {
     pub max_lookup_values: usize,
     /// Largest number of (Te, ne) points in one solve.
     pub max_solve_points: usize,
-    /// Table entries on non-default grids kept in the cache.
-    pub max_extra_cached_grids: usize,
+    /// Dataset, request, table-cache and connection limits (the `[limits]` table of the
+    /// config file).
+    pub limits: Limits,
     /// Upper bound on any request's duration (a client's grpc-timeout may be shorter).
     pub request_timeout: Duration,
     /// HTTP/2 keepalive ping interval.
@@ -100,7 +102,7 @@ impl Default for Config {
             max_in_flight: 256,
             max_lookup_values: engine.max_lookup_values,
             max_solve_points: engine.max_solve_points,
-            max_extra_cached_grids: engine.max_extra_cached_grids,
+            limits: engine.limits,
             request_timeout: Duration::from_secs(120),
             keepalive_interval: Duration::from_secs(30),
             keepalive_timeout: Duration::from_secs(10),
@@ -165,6 +167,18 @@ pub struct Flags {
     /// Longest wait for in-flight calls at shutdown, seconds [default: 10].
     #[arg(long, env = "RATEWELL_SHUTDOWN_GRACE_S")]
     pub shutdown_grace_s: Option<f64>,
+    /// Byte budget of tables cached on non-default grids [default: 268435456].
+    #[arg(long, env = "RATEWELL_TABLE_CACHE_BYTES")]
+    pub table_cache_bytes: Option<u64>,
+    /// Most levels in one species of a loaded dataset [default: 3000].
+    #[arg(long, env = "RATEWELL_MAX_LEVELS_PER_SPECIES")]
+    pub max_levels_per_species: Option<u64>,
+    /// Most TCP connections served at once [default: 1000].
+    #[arg(long, env = "RATEWELL_MAX_CONNECTIONS")]
+    pub max_connections: Option<u64>,
+    /// Longest wait for a new connection's HTTP/2 preface, seconds [default: 10].
+    #[arg(long, env = "RATEWELL_HANDSHAKE_TIMEOUT_S")]
+    pub handshake_timeout_s: Option<f64>,
     /// Serve the benchmark-only Transport service.
     #[arg(long, env = "RATEWELL_BENCHMARK_ENDPOINTS")]
     pub benchmark_endpoints: bool,
@@ -206,7 +220,7 @@ struct FileSettings {
     max_in_flight: Option<usize>,
     max_lookup_values: Option<usize>,
     max_solve_points: Option<usize>,
-    max_extra_cached_grids: Option<usize>,
+    limits: Option<Limits>,
     request_timeout_s: Option<f64>,
     keepalive_interval_s: Option<f64>,
     keepalive_timeout_s: Option<f64>,
@@ -292,6 +306,18 @@ impl Config {
         if let Some(v) = flags.metrics_listen {
             c.metrics_listen = Some(v);
         }
+        if let Some(v) = flags.table_cache_bytes {
+            c.limits.table_cache_bytes = v;
+        }
+        if let Some(v) = flags.max_levels_per_species {
+            c.limits.max_levels_per_species = v;
+        }
+        if let Some(v) = flags.max_connections {
+            c.limits.max_connections = v;
+        }
+        if let Some(v) = flags.handshake_timeout_s {
+            c.limits.handshake_timeout_s = v;
+        }
         c.benchmark_endpoints |= flags.benchmark_endpoints;
         c.json_logs |= flags.json_logs;
         c.validate()?;
@@ -360,8 +386,8 @@ impl Config {
         if let Some(v) = f.max_solve_points {
             self.max_solve_points = v;
         }
-        if let Some(v) = f.max_extra_cached_grids {
-            self.max_extra_cached_grids = v;
+        if let Some(v) = f.limits {
+            self.limits = v;
         }
         for (field, value, slot) in [
             (
@@ -441,6 +467,13 @@ impl Config {
                 allowed: "TLS needs both tls_cert_file and tls_key_file, or neither",
             });
         }
+        if let Some((field, value, allowed)) = self.limits.invalid_setting() {
+            return Err(ConfigError::Invalid {
+                field,
+                value,
+                allowed,
+            });
+        }
         if !self.demo && self.data_dir.is_none() {
             return Err(ConfigError::Invalid {
                 field: "demo",
@@ -456,10 +489,10 @@ impl Config {
         EngineConfig {
             default_grid: self.default_grid,
             data_dir: self.data_dir.clone(),
-            max_extra_cached_grids: self.max_extra_cached_grids,
+            limits: self.limits,
+            max_answer_bytes: self.max_message_bytes,
             max_lookup_values: self.max_lookup_values,
             max_solve_points: self.max_solve_points,
-            ..EngineConfig::default()
         }
     }
 }
@@ -475,7 +508,7 @@ mod tests {
         let file = dir.join("server.toml");
         std::fs::write(
             &file,
-            "max_in_flight = 7\nmax_solve_points = 9\ndata_dir = \"sets\"\n",
+            "max_in_flight = 7\nmax_solve_points = 9\ndata_dir = \"sets\"\n\n[limits]\nmax_species = 4\n",
         )
         .unwrap();
         let flags = Flags {
@@ -486,6 +519,8 @@ mod tests {
         let c = Config::resolve(&flags).unwrap();
         assert_eq!(c.max_in_flight, 3);
         assert_eq!(c.max_solve_points, 9);
+        assert_eq!(c.limits.max_species, 4);
+        assert_eq!(c.limits.max_file_bytes, Limits::default().max_file_bytes);
         assert_eq!(c.data_dir, Some(dir.join("sets")));
         assert_eq!(c.listen, SocketAddr::from(([127, 0, 0, 1], 50051)));
         std::fs::remove_dir_all(&dir).unwrap();

@@ -3,6 +3,7 @@
 
 use clap::Parser;
 use ratewell_service::config::{Config, Flags};
+use ratewell_service::log_escape::Escaping;
 use ratewell_service::server;
 use std::process::ExitCode;
 use tracing_subscriber::EnvFilter;
@@ -18,10 +19,20 @@ fn main() -> ExitCode {
         }
     };
     let filter = EnvFilter::try_from_default_env().unwrap_or_else(|_| EnvFilter::new("info"));
+    // Every event stays one line whatever a logged value holds (see `log_escape`).
+    let writer = Escaping(std::io::stdout);
     if config.json_logs {
-        tracing_subscriber::fmt().with_env_filter(filter).json().init();
+        tracing_subscriber::fmt()
+            .with_env_filter(filter)
+            .with_writer(writer)
+            .json()
+            .init();
     } else {
-        tracing_subscriber::fmt().with_env_filter(filter).init();
+        tracing_subscriber::fmt()
+            .with_env_filter(filter)
+            .with_writer(writer)
+            .with_ansi(false)
+            .init();
     }
     let runtime = match tokio::runtime::Builder::new_multi_thread().enable_all().build() {
         Ok(r) => r,

@@ -12,6 +12,7 @@ use crate::api::rates::RatesHandler;
 use crate::api::transport::TransportHandler;
 use crate::auth::{AuthLayer, Gate};
 use crate::config::Config;
+use crate::connections::ConnectionGate;
 use crate::engine::{Engine, EngineError};
 use crate::linger::LingeringStream;
 use crate::metrics::MetricsLayer;
@@ -146,7 +147,7 @@ pub async fn serve(
     shutdown: impl Future<Output = ()> + Send + 'static,
     started: Instant,
 ) -> Result<(), ServerError> {
-    let gate = match &config.tokens_file {
+    let token_gate = match &config.tokens_file {
         Some(path) => Gate::from_file(path, config.auth_scope)?,
         None => Gate::closed_admin(),
     };
@@ -205,9 +206,11 @@ pub async fn serve(
         .http2_keepalive_interval(Some(config.keepalive_interval))
         .http2_keepalive_timeout(Some(config.keepalive_timeout))
         .tcp_nodelay(true)
+        .max_concurrent_streams(Some(config.limits.max_streams_per_connection))
         .layer(MetricsLayer::new(Arc::clone(&state.metrics)))
+        .layer(crate::api::wire_status::WireStatusLayer)
         .layer(tonic::service::InterceptorLayer::new(crate::api::record_arrival))
-        .layer(AuthLayer::new(gate.clone()));
+        .layer(AuthLayer::new(token_gate.clone()));
     if let (Some(cert), Some(key)) = (&config.tls_cert_file, &config.tls_key_file) {
         builder = builder.tls_config(crate::tls::server_tls(cert, key)?)?;
     }
@@ -229,12 +232,18 @@ pub async fn serve(
     // connection closes by lingering (see `linger`), tracked so the stop can wait for it.
     let local = listener.local_addr().ok();
     let closing = TaskTracker::new();
+    // Connections over max_connections are closed at accept; the others must send the HTTP/2
+    // preface within the handshake timeout (see `connections`).
     let tracker = closing.clone();
-    let incoming = TcpListenerStream::new(listener).map(move |conn| {
-        conn.map(|stream| {
+    let gate = ConnectionGate::new(config.limits.max_connections, config.limits.handshake_timeout());
+    let incoming = TcpListenerStream::new(listener).filter_map(move |conn| match conn {
+        Ok(stream) => {
             let _ = stream.set_nodelay(true);
-            LingeringStream::new(stream, tracker.clone())
-        })
+            let peer = stream.peer_addr().ok();
+            gate.admit(peer, || LingeringStream::new(stream, tracker.clone()))
+                .map(Ok)
+        }
+        Err(e) => Some(Err(e)),
     });
     tracing::info!(
         listen = ?local,
@@ -247,8 +256,11 @@ pub async fn serve(
         grid = ?config.default_grid,
         table_bytes = state.engine.table_bytes(),
         tls = config.tls_cert_file.is_some(),
-        tokens = gate.token_count(),
-        token_scope = gate.scope().as_str(),
+        tokens = token_gate.token_count(),
+        token_scope = token_gate.scope().as_str(),
+        table_cache_bytes = config.limits.table_cache_bytes,
+        max_connections = config.limits.max_connections,
+        handshake_timeout_s = config.limits.handshake_timeout_s,
         "serving"
     );
 

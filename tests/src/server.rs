@@ -7,6 +7,7 @@ use ratewell_proto::pb::{
     populations_client::PopulationsClient, rates_client::RatesClient, transport_client::TransportClient,
 };
 use ratewell_service::config::Config;
+use ratewell_service::engine::Engine;
 use ratewell_service::server::{self, ServerError};
 use std::net::SocketAddr;
 use std::time::{Duration, Instant};
@@ -132,6 +133,43 @@ impl TestServer {
         };
         server.wait_serving().await?;
         Ok(server)
+    }
+
+    /// A server over an engine built here from `config`, returned beside it so a test can
+    /// read the server's own accounting (table bytes, cache statistics).
+    pub async fn start_sharing_engine(config: Config) -> (Self, Engine) {
+        let listener = TcpListener::bind(SocketAddr::from(([127, 0, 0, 1], 0)))
+            .await
+            .expect("bind 127.0.0.1:0");
+        let addr = listener.local_addr().expect("local address of the listener");
+        let engine_config = config.clone();
+        let engine = tokio::task::spawn_blocking(move || server::build_engine(&engine_config))
+            .await
+            .expect("engine build did not panic")
+            .expect("engine builds");
+        let (stop, stopped) = oneshot::channel::<()>();
+        let task = tokio::spawn(server::serve(
+            listener,
+            config,
+            engine.clone(),
+            async move {
+                let _ = stopped.await;
+            },
+            Instant::now(),
+        ));
+        let channel = Endpoint::from_shared(format!("http://{addr}"))
+            .expect("a valid loopback URL")
+            .connect_lazy();
+        let mut server = Self {
+            addr,
+            channel,
+            stop: Some(stop),
+            task: Some(task),
+        };
+        if let Err(e) = server.wait_serving().await {
+            panic!("server failed to start: {e}");
+        }
+        (server, engine)
     }
 
     /// Polls standard health checking until the server reports SERVING (a health answer is

@@ -38,7 +38,7 @@ async fn admin_needs_the_right_token() {
         .expect_err("no token");
     assert_eq!(none.code(), Code::Unauthenticated, "{none:?}");
     assert!(
-        none.message().contains("needs a bearer token"),
+        none.message().contains("admin calls require a bearer token"),
         "{}",
         none.message()
     );
@@ -110,7 +110,13 @@ async fn scope_all_guards_every_call_but_health() {
         .await
         .expect_err("a lookup without a token");
     assert_eq!(refused.code(), Code::Unauthenticated, "{refused:?}");
-    assert!(refused.message().contains("every call"), "{}", refused.message());
+    assert!(
+        refused
+            .message()
+            .contains("all calls on this server require a bearer token"),
+        "{}",
+        refused.message()
+    );
 
     let mut authed = RatesClient::with_interceptor(server.channel(), Bearer::new(Some(TEST_TOKEN)));
     let answer = authed

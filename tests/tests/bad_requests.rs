@@ -168,12 +168,20 @@ async fn oversized_batches_are_resource_exhausted() {
     assert_status(
         &status,
         Code::ResourceExhausted,
-        &["transitions x temperatures = 1010", "limit of 1000"],
+        &[
+            "transitions x temperatures of the lookup = 1010",
+            "limit of 1000",
+            "max_lookup_values",
+        ],
     );
 
     let req = solve(MK_III, log_spaced(1e3, 1e5, 8), log_spaced(1e2, 1e6, 7), true);
     let status = refused(server.populations().solve_populations(req).await);
-    assert_status(&status, Code::ResourceExhausted, &["points = 56", "limit of 50"]);
+    assert_status(
+        &status,
+        Code::ResourceExhausted,
+        &["points of the solve = 56", "limit of 50", "max_solve_points"],
+    );
 }
 
 #[tokio::test(flavor = "multi_thread", worker_threads = 2)]

@@ -3,6 +3,7 @@
 //! errors to statuses in one place ([`status`]).
 
 pub mod admin;
+pub mod bounded;
 pub mod catalogue;
 pub mod consistency;
 pub mod convert;
@@ -11,6 +12,7 @@ pub mod populations;
 pub mod rates;
 pub mod status;
 pub mod transport;
+pub mod wire_status;
 
 use crate::engine::solve::Cancel;
 use crate::engine::{Engine, EngineError};
@@ -136,6 +138,11 @@ impl AppState {
     pub fn in_flight(&self) -> usize {
         self.max_in_flight
             .saturating_sub(self.permits.available_permits())
+    }
+
+    /// The upper bound on any call's duration (and on a stream's silence).
+    pub fn request_timeout(&self) -> Duration {
+        self.request_timeout
     }
 
     /// Ends every call still in flight with UNAVAILABLE (when the shutdown grace runs out).

@@ -83,8 +83,24 @@ impl Rates for RatesHandler {
         let started = std::time::Instant::now();
         let mut incoming = request.into_inner();
         let state = self.0.clone();
+        let idle_limit = state.request_timeout();
         let output = async_stream_of(move |tx| async move {
-            while let Some(next) = incoming.next().await {
+            loop {
+                // A stream that sends nothing for the request timeout is ended, so idle streams
+                // do not outlive it.
+                let next = match tokio::time::timeout(idle_limit, incoming.next()).await {
+                    Ok(Some(next)) => next,
+                    Ok(None) => break,
+                    Err(_) => {
+                        let _ = tx
+                            .send(Err(Status::deadline_exceeded(format!(
+                                "no request on the stream for {:.3} s (setting request_timeout_s)",
+                                idle_limit.as_secs_f64()
+                            ))))
+                            .await;
+                        break;
+                    }
+                };
                 let answer = match next {
                     Ok(req) => {
                         // The stream's deadline covers the whole stream.

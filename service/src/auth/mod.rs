@@ -81,9 +81,9 @@ pub struct Caller(pub String);
 #[derive(Debug, Clone, PartialEq, Eq, thiserror::Error)]
 pub enum Refusal {
     /// The call needs a token and carried no `authorization` header.
-    #[error("{what} needs a bearer token: send the header `authorization: Bearer <token>`")]
+    #[error("{what} require a bearer token: send the header `authorization: Bearer <token>`")]
     Missing {
-        /// "admin calls" or "every call on this server".
+        /// "admin calls" or "all calls on this server".
         what: &'static str,
     },
     /// The header is not `Bearer <token>` in visible ASCII.
@@ -203,7 +203,7 @@ impl Gate {
             let what = if admin {
                 "admin calls"
             } else {
-                "every call on this server"
+                "all calls on this server"
             };
             return Err(Refusal::Missing { what });
         };

@@ -6,24 +6,31 @@ use super::MANIFEST_FILE;
 use super::error::DatasetError;
 use super::load::assemble;
 use super::model::Dataset;
+use crate::limits::Limits;
 
-/// Load the dataset in folder `dir`: its manifest `dataset.toml` and species files.
+/// Load the dataset in folder `dir`: its manifest `dataset.toml` and species files, under the
+/// default [`Limits`].
 pub fn load_folder(dir: &Path) -> Result<Dataset, DatasetError> {
-    read_folder(dir, &dir.display().to_string(), None)
+    load_folder_limited(dir, &Limits::default())
 }
 
-/// Load the dataset in folder `name` of the data folder `root`, confined to it: the folder and
-/// its files may be symbolic links only to places inside `root`, and every path in an error is
-/// shown relative to `root` (no absolute paths, nothing read from outside).
-pub fn load_folder_within(root: &Path, name: &str) -> Result<Dataset, DatasetError> {
-    let io = |shown: &str| {
-        let path = PathBuf::from(shown);
-        move |source| DatasetError::Io { path, source }
-    };
-    let inside = std::fs::canonicalize(root).map_err(io("(the data folder)"))?;
+/// [`load_folder`] refusing any file over `limits.max_file_bytes` and a folder whose files
+/// total over `limits.max_dataset_bytes`, each before it is read.
+pub fn load_folder_limited(dir: &Path, limits: &Limits) -> Result<Dataset, DatasetError> {
+    read_folder(dir, &dir.display().to_string(), None, limits)
+}
+
+/// Load the dataset in folder `name` of the data folder `root` under `limits`, confined to
+/// `root`: the folder and its files may be symbolic links only to places inside it, and every
+/// path in an error is shown relative to it (no absolute paths, nothing read from outside).
+pub fn load_folder_confined(root: &Path, name: &str, limits: &Limits) -> Result<Dataset, DatasetError> {
+    let inside = std::fs::canonicalize(root).map_err(|source| DatasetError::Io {
+        path: PathBuf::from("(the data folder)"),
+        source,
+    })?;
     let dir = root.join(name);
     confine(&dir, name, &inside)?;
-    read_folder(&dir, name, Some(&inside))
+    read_folder(&dir, name, Some(&inside), limits)
 }
 
 /// Refuses `path` (shown as `shown`) when it is a symbolic link whose target is outside
@@ -41,9 +48,14 @@ fn confine(path: &Path, shown: &str, inside: &Path) -> Result<(), DatasetError> 
     }
 }
 
-/// Reads folder `dir`, naming it `shown` in errors; with `inside`, symbolic links leading out
-/// of that canonical folder are refused.
-fn read_folder(dir: &Path, shown: &str, inside: Option<&Path>) -> Result<Dataset, DatasetError> {
+/// Reads folder `dir` under `limits`, naming it `shown` in errors; with `inside`, symbolic
+/// links leading out of that canonical folder are refused.
+fn read_folder(
+    dir: &Path,
+    shown: &str,
+    inside: Option<&Path>,
+    limits: &Limits,
+) -> Result<Dataset, DatasetError> {
     let io = |shown: String| {
         let path = PathBuf::from(shown);
         move |source| DatasetError::Io { path, source }
@@ -59,6 +71,7 @@ fn read_folder(dir: &Path, shown: &str, inside: Option<&Path>) -> Result<Dataset
         });
     }
     let mut files: Vec<(String, String)> = Vec::new();
+    let mut total_bytes = 0u64;
     for entry in std::fs::read_dir(dir).map_err(io(shown.to_owned()))? {
         let path = entry.map_err(io(shown.to_owned()))?.path();
         let is_toml = path.extension().is_some_and(|e| e == "toml");
@@ -70,7 +83,7 @@ fn read_folder(dir: &Path, shown: &str, inside: Option<&Path>) -> Result<Dataset
             if !path.is_file() {
                 continue;
             }
-            let text = std::fs::read_to_string(&path).map_err(io(shown_file))?;
+            let text = super::bounded_read::read_text(&path, &shown_file, limits, &mut total_bytes)?;
             files.push((name.to_string(), text));
         }
     }

@@ -50,6 +50,9 @@ pub enum DatasetError {
         /// The folder, or the name of the embedded file set.
         location: String,
     },
+    /// A file, or the dataset as a whole, is over a configured size limit.
+    #[error("{0}")]
+    OverLimit(#[from] crate::limits::LimitError),
     /// The files were read but break the format; every problem found is listed.
     #[error("{}", list_problems(problems))]
     Invalid {
@@ -63,9 +66,10 @@ impl DatasetError {
     pub fn problems(&self) -> Vec<&Problem> {
         match self {
             DatasetError::Invalid { problems } => problems.iter().collect(),
-            DatasetError::Io { .. } | DatasetError::MissingManifest { .. } | DatasetError::Escapes { .. } => {
-                Vec::new()
-            }
+            DatasetError::Io { .. }
+            | DatasetError::MissingManifest { .. }
+            | DatasetError::Escapes { .. }
+            | DatasetError::OverLimit(_) => Vec::new(),
         }
     }
 }

@@ -153,6 +153,7 @@
 //! collision block is carried to the species description (the collision block's first, else
 //! the radiative line's); it does not enter any computed value.
 
+mod bounded_read;
 pub mod catalogue;
 pub mod embedded;
 pub mod error;
@@ -165,7 +166,7 @@ mod reader;
 pub mod units;
 pub mod validate;
 
-pub use catalogue::{find_dataset_dirs, load_folder, load_folder_within};
+pub use catalogue::{find_dataset_dirs, load_folder, load_folder_confined, load_folder_limited};
 pub use embedded::{EMBEDDED_DEMO_FILES, EMBEDDED_DEMO_ORIGIN, demo_dataset};
 pub use error::{DatasetError, Problem};
 pub use format::FORMAT_VERSION;

@@ -1,7 +1,7 @@
 //! Consistency comparison of two datasets (or two versions of one) on a temperature grid: the
 //! largest relative difference of each shared transition's de-excitation rate coefficient.
 
-use super::{Engine, EngineError, GridSpec, Selector, Stamp};
+use super::{Engine, EngineError, GridSpec, Selector, Stamp, admit};
 use crate::dataset::Species;
 use ratewell_proto::rule::LogGrid;
 
@@ -104,6 +104,18 @@ impl Engine {
             }
             query.species.clone()
         };
+        let transitions: usize = names
+            .iter()
+            .flat_map(|n| [first.dataset.species(n), second.dataset.species(n)])
+            .flatten()
+            .map(|s| s.collisions.len())
+            .sum();
+        let limits = &self.config().limits;
+        admit::check_compare(limits, transitions)?;
+        if query.grid.is_some() {
+            // Every compared species may need tables on this grid, in both datasets.
+            admit::check_table_build(limits, grid.knots(), transitions)?;
+        }
         let mut answer = CompareAnswer {
             first: first.stamp.clone(),
             second: second.stamp.clone(),

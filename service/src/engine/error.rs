@@ -20,24 +20,38 @@ pub enum EngineError {
         allowed: String,
     },
     /// Several elements of a batch are bad; each entry is (field, message).
-    #[error("{} bad values: {}", .violations.len(), join(.violations))]
+    #[error("{total} bad values: {}", join(.violations, *.total))]
     BadBatch {
-        /// (field path, description) per bad element.
+        /// (field path, description) of the first [`MAX_KEPT_VIOLATIONS`] bad elements.
         violations: Vec<(String, String)>,
+        /// How many elements are bad in all.
+        total: usize,
     },
     /// A value lies outside what the data cover and extrapolation was not allowed.
     #[error("{0}")]
     OutOfRange(String),
-    /// A batch or request exceeds a configured limit.
-    #[error("{field} = {value}: exceeds the limit of {limit}")]
-    TooLarge {
-        /// What was too large.
-        field: String,
-        /// Its size.
-        value: usize,
-        /// The configured limit.
-        limit: usize,
+    /// The balance equations have no usable solution at one requested point: the inputs are
+    /// outside the range where the solve is well conditioned.
+    #[error(
+        "no usable solution at T = {temperature_k} K, n_e = {density_per_cm3} cm^-3 ({reason}); \
+         solves are tested stable for n_e from 1 to 1e20 cm^-3 and T within the table grid \
+         [{grid_min_k}, {grid_max_k}] K"
+    )]
+    Degenerate {
+        /// Electron temperature of the point, K.
+        temperature_k: f64,
+        /// Electron density of the point, cm^-3.
+        density_per_cm3: f64,
+        /// What the solver found.
+        reason: PhysicsError,
+        /// Lowest temperature of the species' grid, K.
+        grid_min_k: f64,
+        /// Highest temperature of the species' grid, K.
+        grid_max_k: f64,
     },
+    /// A request would cause more work or a larger answer than a configured limit allows.
+    #[error("{0}")]
+    TooLarge(#[from] crate::limits::LimitError),
     /// No loaded dataset matches the selector.
     #[error("dataset {id}{}: not loaded (loaded: {available})", version_suffix(.version))]
     UnknownDataset {
@@ -99,7 +113,28 @@ pub enum EngineError {
     Solve(#[from] PhysicsError),
 }
 
+/// Bad elements of a batch kept with their description; the rest are only counted.
+pub const MAX_KEPT_VIOLATIONS: usize = 16;
+
 impl EngineError {
+    /// A [`Self::BadBatch`] of the bad elements `bad` yields, keeping the first
+    /// [`MAX_KEPT_VIOLATIONS`] (built by `describe`) and counting the rest; `None` if there are
+    /// none.
+    pub fn bad_batch<T>(
+        bad: impl Iterator<Item = T>,
+        describe: impl Fn(T) -> (String, String),
+    ) -> Option<Self> {
+        let mut violations = Vec::new();
+        let mut total = 0;
+        for item in bad {
+            if total < MAX_KEPT_VIOLATIONS {
+                violations.push(describe(item));
+            }
+            total += 1;
+        }
+        (total > 0).then_some(Self::BadBatch { violations, total })
+    }
+
     /// An invalid-argument error naming field, value and allowed range.
     pub fn invalid(field: impl Into<String>, value: impl ToString, allowed: impl Into<String>) -> Self {
         Self::InvalidArgument {
@@ -118,9 +153,9 @@ fn version_suffix(version: &str) -> String {
     }
 }
 
-fn join(violations: &[(String, String)]) -> String {
+fn join(violations: &[(String, String)], total: usize) -> String {
     let shown: Vec<String> = violations.iter().take(5).map(|(_, m)| m.clone()).collect();
-    let more = violations.len().saturating_sub(5);
+    let more = total.saturating_sub(shown.len());
     if more > 0 {
         format!("{}; and {more} more", shown.join("; "))
     } else {

@@ -2,7 +2,8 @@
 //! shared rule (each temperature located once on the species' grid).
 
 use super::units::{RateUnit, TemperatureUnit};
-use super::{Engine, EngineError, GridSpec, Selector, Stamp};
+use super::{Engine, EngineError, GridSpec, Selector, Stamp, admit};
+use crate::limits::{SPLIT_ADVICE, check};
 use ratewell_proto::rule::{
     Direction, OutsidePolicy, RateOutputs, RateTable, RuleError, Threads, checked_location, write_rows,
 };
@@ -62,28 +63,57 @@ pub fn temperatures_in_kelvin(values: &[f64], unit: TemperatureUnit) -> Result<V
             "must hold at least one temperature",
         ));
     }
-    let violations: Vec<(String, String)> = values
+    let bad = values
         .iter()
         .enumerate()
-        .filter(|(_, v)| !(v.is_finite() && **v > 0.0))
-        .map(|(i, v)| {
-            let field = format!("temperatures[{i}]");
-            let message = format!("{field} = {v} {}: must be finite and > 0", unit.symbol());
-            (field, message)
-        })
-        .collect();
-    if !violations.is_empty() {
-        return Err(EngineError::BadBatch { violations });
+        .filter(|(_, v)| !(v.is_finite() && **v > 0.0));
+    if let Some(e) = EngineError::bad_batch(bad, |(i, v)| {
+        let field = format!("temperatures[{i}]");
+        let message = format!("{field} = {v} {}: must be finite and > 0", unit.symbol());
+        (field, message)
+    }) {
+        return Err(e);
     }
     Ok(values.iter().map(|&v| unit.to_kelvin(v)).collect())
 }
 
 impl Engine {
+    /// Refuses a lookup over `max_lookup_values` or with an answer over the message limit,
+    /// before any table is built or value computed.
+    fn admit_lookup(&self, loaded: &super::LoadedDataset, query: &LookupQuery) -> Result<(), EngineError> {
+        let rows = if query.transitions.is_empty() {
+            loaded
+                .tables
+                .get(&query.species)
+                .ok_or_else(|| super::unknown_species_error(loaded, &query.species))?
+                .tables
+                .len()
+        } else {
+            query.transitions.len()
+        };
+        let total = rows.saturating_mul(query.temperatures.len());
+        check(
+            "transitions x temperatures of the lookup",
+            total as u64,
+            self.config().max_lookup_values as u64,
+            "max_lookup_values",
+            SPLIT_ADVICE,
+        )?;
+        let directions = usize::from(query.direction.wants_excitation())
+            + usize::from(query.direction.wants_deexcitation());
+        admit::check_answer_bytes(
+            admit::lookup_answer_bytes(total, directions),
+            self.config().max_answer_bytes,
+        )?;
+        Ok(())
+    }
+
     /// Answers a batched lookup. CPU work proportional to transitions x temperatures.
     pub fn lookup(&self, query: &LookupQuery) -> Result<LookupAnswer, EngineError> {
         let loaded = self.select(&query.selector)?;
-        let tables = self.species_tables(&loaded, &query.species, query.grid)?;
         let temps_k = temperatures_in_kelvin(&query.temperatures, query.temperature_unit)?;
+        self.admit_lookup(&loaded, query)?;
+        let tables = self.species_tables(&loaded, &query.species, query.grid)?;
         let positions: Vec<usize> = if query.transitions.is_empty() {
             (0..tables.tables.len()).collect()
         } else {
@@ -105,14 +135,6 @@ impl Engine {
         };
         let n_t = temps_k.len();
         let total = positions.len().saturating_mul(n_t);
-        let limit = self.config().max_lookup_values;
-        if total > limit {
-            return Err(EngineError::TooLarge {
-                field: "transitions x temperatures".into(),
-                value: total,
-                limit,
-            });
-        }
         let locations = temps_k
             .iter()
             .enumerate()

@@ -7,9 +7,11 @@
 //! - [`lookup`]: batched rate-coefficient lookups.
 //! - [`solve`]: population solves over lists or grids of (Te, ne), in parallel.
 //! - [`compare`]: consistency comparison of two datasets.
+//! - [`admit`]: dataset and request limits, checked before the work they guard.
 //! - [`units`]: request and answer units.
 //! - [`error`]: the engine's error enum.
 
+pub mod admit;
 pub mod compare;
 pub mod error;
 pub mod folders;
@@ -23,11 +25,12 @@ pub use folders::{FolderOutcome, FolderRecord};
 pub use registry::{LoadedDataset, Registry, Selector, SolveInputs, Stamp};
 
 use crate::dataset::{self, Dataset};
+use crate::limits::Limits;
 use crate::physics::PhysicsError;
 use crate::physics::elementary::log10;
 use crate::physics::emission::line_terms;
 use crate::physics::populations::RadiativeRate;
-use crate::tables::{SpeciesTables, TableCache, TableKey, build_species_tables};
+use crate::tables::{CacheStats, SpeciesTables, TableCache, TableKey, build_species_tables};
 use ratewell_proto::rule::LogGrid;
 use std::collections::HashMap;
 use std::path::{Path, PathBuf};
@@ -68,10 +71,10 @@ pub struct EngineConfig {
     pub default_grid: GridSpec,
     /// Folder that `load_folder` names are resolved in.
     pub data_dir: Option<PathBuf>,
-    /// Tables on non-default grids kept in the cache at most (species x grid entries).
-    pub max_extra_cached_grids: usize,
-    /// Largest knots x transitions a request may ask to build on a non-default grid.
-    pub max_table_values_per_request: usize,
+    /// Dataset, request, cache and connection limits.
+    pub limits: Limits,
+    /// Largest encoded answer, bytes (answers estimated over it are refused before work).
+    pub max_answer_bytes: usize,
     /// Largest transitions x temperatures in one lookup.
     pub max_lookup_values: usize,
     /// Largest number of (Te, ne) points in one population solve.
@@ -88,8 +91,8 @@ impl Default for EngineConfig {
                 points_per_decade: 20,
             },
             data_dir: None,
-            max_extra_cached_grids: 64,
-            max_table_values_per_request: 20_000_000,
+            limits: Limits::default(),
+            max_answer_bytes: 64 * 1024 * 1024,
             max_lookup_values: 4_000_000,
             max_solve_points: 100_000,
         }
@@ -130,7 +133,7 @@ struct Inner {
 impl Engine {
     /// An engine with no datasets loaded.
     pub fn new(config: EngineConfig) -> Self {
-        let cache = TableCache::new(config.max_extra_cached_grids);
+        let cache = TableCache::new(config.limits.table_cache_bytes);
         Self {
             inner: Arc::new(Inner {
                 config,
@@ -150,6 +153,7 @@ impl Engine {
     /// On error nothing changes.
     pub fn install(&self, dataset: Dataset) -> Result<LoadReport, EngineError> {
         let started = Instant::now();
+        admit::check_dataset(&self.inner.config.limits, &dataset).map_err(dataset::DatasetError::from)?;
         let grid = self.inner.config.default_grid.to_grid()?;
         let mut tables = HashMap::new();
         let mut solve_inputs = HashMap::new();
@@ -167,14 +171,8 @@ impl Engine {
             content_hash: dataset.content_hash.clone(),
             tables_digest: tables_digest(&dataset, &tables),
         };
+        // Default-grid tables live in the loaded dataset, outside the evicting cache.
         let table_count = tables.values().map(|t| t.tables.len()).sum();
-        for (name, t) in &tables {
-            self.inner.cache.insert(
-                TableKey::new(&stamp.content_hash, name, &grid),
-                Arc::clone(t),
-                true,
-            );
-        }
         let species_count = dataset.species.len();
         let loaded = Arc::new(LoadedDataset {
             dataset: Arc::new(dataset),
@@ -214,7 +212,7 @@ impl Engine {
 
     /// Loads a dataset folder from disk (any path).
     pub fn load_path(&self, path: &Path) -> Result<LoadReport, EngineError> {
-        self.install(dataset::load_folder(path)?)
+        self.install(dataset::load_folder_limited(path, &self.inner.config.limits)?)
     }
 
     /// Loads every dataset folder of the configured data folder (each sub-folder holding a
@@ -275,7 +273,11 @@ impl Engine {
                 "must be one folder name inside the data folder (no path separators or ..)",
             ));
         }
-        self.install(dataset::load_folder_within(root, name)?)
+        self.install(dataset::load_folder_confined(
+            root,
+            name,
+            &self.inner.config.limits,
+        )?)
     }
 
     /// Every loaded dataset.
@@ -288,9 +290,24 @@ impl Engine {
         self.inner.registry.select(selector)
     }
 
-    /// Approximate heap bytes held by cached tables.
+    /// Approximate heap bytes held by tables: every loaded dataset's default-grid tables plus
+    /// the cache of other grids.
     pub fn table_bytes(&self) -> usize {
-        self.inner.cache.table_bytes()
+        self.resident_table_bytes() + self.inner.cache.stats().bytes as usize
+    }
+
+    /// Heap bytes of the default-grid tables of the loaded datasets (never evicted).
+    pub fn resident_table_bytes(&self) -> usize {
+        self.datasets()
+            .iter()
+            .flat_map(|d| d.tables.values())
+            .map(|t| t.table_bytes())
+            .sum()
+    }
+
+    /// The evicting cache of tables on non-default grids: bytes, entries, evictions.
+    pub fn cache_stats(&self) -> CacheStats {
+        self.inner.cache.stats()
     }
 
     /// The tables of `species` in `loaded` on `grid` (default grid when `None`), building and
@@ -316,21 +333,23 @@ impl Engine {
         if let Some(t) = self.inner.cache.get(&key) {
             return Ok(t);
         }
-        let values = grid.knots() * default.tables.len();
-        let limit = self.inner.config.max_table_values_per_request;
-        if values > limit {
-            return Err(EngineError::TooLarge {
-                field: "grid knots x transitions".into(),
-                value: values,
-                limit,
-            });
-        }
+        admit::check_table_build(&self.inner.config.limits, grid.knots(), default.tables.len())?;
         let data = loaded
             .dataset
             .species(species)
             .ok_or_else(|| unknown_species_error(loaded, species))?;
-        let built = Arc::new(build_species_tables(data, grid)?);
-        Ok(self.inner.cache.insert(key, built, false))
+        self.inner
+            .cache
+            .get_or_build(key, || Ok(Arc::new(build_species_tables(data, grid)?)))
+    }
+
+    /// Knots of the grid `spec` names (the default grid's when `None`), for limits checked
+    /// before any table is built.
+    pub fn knots_of(&self, loaded: &LoadedDataset, spec: Option<GridSpec>) -> Result<usize, EngineError> {
+        Ok(match spec {
+            None => loaded.default_grid.knots(),
+            Some(s) => s.to_grid()?.knots(),
+        })
     }
 }
 

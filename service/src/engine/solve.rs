@@ -4,7 +4,8 @@
 
 use super::lookup::{add_flag_cautions, temperatures_in_kelvin};
 use super::units::{DensityUnit, PowerUnit, TemperatureUnit};
-use super::{Engine, EngineError, GridSpec, Selector, SolveInputs, Stamp};
+use super::{Engine, EngineError, GridSpec, Selector, SolveInputs, Stamp, admit};
+use crate::limits::{SPLIT_ADVICE, check};
 use crate::physics::PhysicsError;
 use crate::physics::emission::{
     PowerSummary, critical_densities_all_exits_cm3, critical_densities_cm3, line_powers_into,
@@ -118,18 +119,16 @@ fn densities_in_per_cm3(values: &[f64], unit: DensityUnit) -> Result<Vec<f64>, E
             "must hold at least one density",
         ));
     }
-    let violations: Vec<(String, String)> = values
+    let bad = values
         .iter()
         .enumerate()
-        .filter(|(_, v)| !(v.is_finite() && **v > 0.0))
-        .map(|(i, v)| {
-            let field = format!("densities[{i}]");
-            let message = format!("{field} = {v} {}: must be finite and > 0", unit.symbol());
-            (field, message)
-        })
-        .collect();
-    if !violations.is_empty() {
-        return Err(EngineError::BadBatch { violations });
+        .filter(|(_, v)| !(v.is_finite() && **v > 0.0));
+    if let Some(e) = EngineError::bad_batch(bad, |(i, v)| {
+        let field = format!("densities[{i}]");
+        let message = format!("{field} = {v} {}: must be finite and > 0", unit.symbol());
+        (field, message)
+    }) {
+        return Err(e);
     }
     Ok(values.iter().map(|&v| unit.to_per_cm3(v)).collect())
 }
@@ -160,6 +159,37 @@ impl Cancel {
 }
 
 impl Engine {
+    /// Refuses a solve over the point, work or answer-size limits, before any table is built
+    /// or matrix allocated.
+    fn admit_solve(
+        &self,
+        query: &SolveQuery,
+        n_points: usize,
+        inputs: &SolveInputs,
+    ) -> Result<(), EngineError> {
+        let levels = inputs.energies_cm1.len();
+        check(
+            "points of the solve",
+            n_points as u64,
+            self.config().max_solve_points as u64,
+            "max_solve_points",
+            SPLIT_ADVICE,
+        )?;
+        admit::check_solve_work(&self.config().limits, n_points, levels)?;
+        // Every line is reported only with no threshold; otherwise the encoder's own limit is
+        // the backstop.
+        let lines = if query.min_line_fraction > 0.0 {
+            0
+        } else {
+            inputs.lines.len()
+        };
+        admit::check_answer_bytes(
+            admit::solve_answer_bytes(n_points, levels, lines),
+            self.config().max_answer_bytes,
+        )?;
+        Ok(())
+    }
+
     /// Solves statistical equilibrium at every requested point. CPU-heavy: call from a
     /// blocking thread.
     pub fn solve(&self, query: &SolveQuery) -> Result<SolveAnswer, EngineError> {
@@ -178,7 +208,6 @@ impl Engine {
             ));
         }
         let loaded = self.select(&query.selector)?;
-        let tables = self.species_tables(&loaded, &query.species, query.grid)?;
         let inputs = loaded
             .solve_inputs
             .get(&query.species)
@@ -201,14 +230,8 @@ impl Engine {
             }
             PointLayout::Grid => temps_k.len().saturating_mul(dens.len()),
         };
-        let limit = self.config().max_solve_points;
-        if n_points > limit {
-            return Err(EngineError::TooLarge {
-                field: "points".into(),
-                value: n_points,
-                limit,
-            });
-        }
+        self.admit_solve(query, n_points, inputs)?;
+        let tables = self.species_tables(&loaded, &query.species, query.grid)?;
         let locate = |j: usize, t: f64| {
             checked_location(&tables.grid, j, t, query.outside).map_err(|e| match e {
                 RuleError::OutsideGrid { .. } => EngineError::OutOfRange(e.to_string()),
@@ -405,7 +428,13 @@ fn solve_at_temperature(
     )?);
     let mut out = Vec::with_capacity(work.densities.len());
     for &(index, ne) in &work.densities {
-        let view = workspace.solve(ne)?;
+        let view = workspace.solve(ne).map_err(|reason| EngineError::Degenerate {
+            temperature_k: work.t_k,
+            density_per_cm3: ne,
+            reason,
+            grid_min_k: tables.grid.t_min_k(),
+            grid_max_k: tables.grid.t_max_k(),
+        })?;
         let fractions = view.fractions.to_vec();
         let residual = view.max_relative_imbalance;
         let PowerSummary {

@@ -1,9 +1,11 @@
-//! The table cache: species tables keyed by dataset content hash, species and grid, shared by
-//! every request. Tables for a dataset's default grid are built at load; other grids on first
-//! use, with a cap on how many such extra entries are kept.
+//! The cache of tables built on non-default grids: species tables keyed by dataset content
+//! hash, species and grid, weighed by their heap bytes and bounded by a byte budget
+//! (quick_cache's CLOCK-Pro-style eviction). Default-grid tables are not in here: they live in
+//! each loaded dataset and are never evicted, so normal traffic never rebuilds them.
 
 use super::SpeciesTables;
-use dashmap::DashMap;
+use quick_cache::sync::Cache;
+use quick_cache::{DefaultHashBuilder, Lifecycle, OptionsBuilder, Weighter};
 use ratewell_proto::rule::LogGrid;
 use std::sync::Arc;
 use std::sync::atomic::{AtomicU64, Ordering};
@@ -34,90 +36,117 @@ impl TableKey {
     }
 }
 
-struct Entry {
-    tables: Arc<SpeciesTables>,
-    pinned: bool,
-    last_used: AtomicU64,
+/// What the cache holds, for logs and metrics.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub struct CacheStats {
+    /// Heap bytes of the cached tables (the weight the budget bounds).
+    pub bytes: u64,
+    /// The byte budget.
+    pub capacity_bytes: u64,
+    /// Cached table sets.
+    pub entries: u64,
+    /// Table sets evicted to stay within the budget since start.
+    pub evictions: u64,
+    /// Table sets built but not kept because one alone is over the budget.
+    pub uncached: u64,
 }
 
-/// Concurrent cache of species tables. Cheap to clone.
+#[derive(Clone)]
+struct ByBytes;
+
+impl Weighter<TableKey, Arc<SpeciesTables>> for ByBytes {
+    fn weight(&self, key: &TableKey, tables: &Arc<SpeciesTables>) -> u64 {
+        // At least 1: zero-weight entries would never be evicted.
+        (tables.table_bytes() + key.species.len() + key.content_hash.len()).max(1) as u64
+    }
+}
+
+#[derive(Clone, Default)]
+struct CountEvictions(Arc<AtomicU64>);
+
+impl Lifecycle<TableKey, Arc<SpeciesTables>> for CountEvictions {
+    type RequestState = ();
+
+    fn begin_request(&self) -> Self::RequestState {}
+
+    fn on_evict(&self, _: &mut (), _: TableKey, _: Arc<SpeciesTables>) {
+        self.0.fetch_add(1, Ordering::Relaxed);
+    }
+}
+
+type Inner = Cache<TableKey, Arc<SpeciesTables>, ByBytes, DefaultHashBuilder, CountEvictions>;
+
+/// Concurrent byte-bounded cache of species tables. Cheap to clone.
 #[derive(Clone)]
 pub struct TableCache {
-    map: Arc<DashMap<TableKey, Entry>>,
-    clock: Arc<AtomicU64>,
-    max_extra_entries: usize,
+    cache: Arc<Inner>,
+    evictions: CountEvictions,
+    uncached: Arc<AtomicU64>,
+    capacity_bytes: u64,
 }
 
 impl TableCache {
-    /// A cache that keeps at most `max_extra_entries` entries beyond the pinned default-grid ones.
-    pub fn new(max_extra_entries: usize) -> Self {
+    /// A cache holding at most `capacity_bytes` of tables.
+    pub fn new(capacity_bytes: u64) -> Self {
+        let evictions = CountEvictions::default();
+        let options = OptionsBuilder::new()
+            // One shard: a table set can be a large part of the budget, and sharding would
+            // split the budget (an entry must fit in one shard). Builds are rare, so one lock
+            // costs nothing measurable.
+            .shards(1)
+            .estimated_items_capacity(256)
+            .weight_capacity(capacity_bytes)
+            .build()
+            .expect("cache options: capacity and shard count are set");
+        let cache = Cache::with_options(options, ByBytes, DefaultHashBuilder::default(), evictions.clone());
         Self {
-            map: Arc::new(DashMap::new()),
-            clock: Arc::new(AtomicU64::new(0)),
-            max_extra_entries,
+            cache: Arc::new(cache),
+            evictions,
+            uncached: Arc::new(AtomicU64::new(0)),
+            capacity_bytes,
         }
     }
 
     /// The cached tables for `key`, if present.
     pub fn get(&self, key: &TableKey) -> Option<Arc<SpeciesTables>> {
-        self.map.get(key).map(|e| {
-            e.last_used
-                .store(self.clock.fetch_add(1, Ordering::Relaxed), Ordering::Relaxed);
-            Arc::clone(&e.tables)
-        })
+        self.cache.get(key)
     }
 
-    /// Stores tables; `pinned` entries (a dataset's default grid) are never evicted until
-    /// [`Self::remove_dataset`]. Returns the tables now cached under `key` (an earlier insert
-    /// by a concurrent builder wins, so every caller sees one table set).
-    pub fn insert(&self, key: TableKey, tables: Arc<SpeciesTables>, pinned: bool) -> Arc<SpeciesTables> {
-        let tick = self.clock.fetch_add(1, Ordering::Relaxed);
-        let stored = {
-            let entry = self.map.entry(key).or_insert_with(|| Entry {
-                tables,
-                pinned,
-                last_used: AtomicU64::new(tick),
-            });
-            Arc::clone(&entry.tables)
-        };
-        self.evict_extras();
-        stored
+    /// The tables under `key`, built by `build` on a miss. Concurrent callers asking for the
+    /// same key wait for one build and share its result. A table set heavier than the whole
+    /// budget is returned but not kept.
+    pub fn get_or_build<E>(
+        &self,
+        key: TableKey,
+        build: impl FnOnce() -> Result<Arc<SpeciesTables>, E>,
+    ) -> Result<Arc<SpeciesTables>, E> {
+        let mut oversized = false;
+        let result = self.cache.get_or_insert_with(&key, || {
+            let tables = build()?;
+            oversized = ByBytes.weight(&key, &tables) > self.capacity_bytes;
+            Ok(tables)
+        });
+        if oversized {
+            // quick_cache rejects it and reports it as an eviction; count it apart.
+            self.uncached.fetch_add(1, Ordering::Relaxed);
+        }
+        result
     }
 
     /// Drops every entry of the dataset with `content_hash`.
     pub fn remove_dataset(&self, content_hash: &str) {
-        self.map.retain(|k, _| k.content_hash != content_hash);
+        self.cache.retain(|k, _| k.content_hash != content_hash);
     }
 
-    /// Number of cached entries.
-    pub fn len(&self) -> usize {
-        self.map.len()
-    }
-
-    /// Whether the cache is empty.
-    pub fn is_empty(&self) -> bool {
-        self.map.is_empty()
-    }
-
-    /// Approximate heap bytes held by all cached tables.
-    pub fn table_bytes(&self) -> usize {
-        self.map.iter().map(|e| e.tables.table_bytes()).sum()
-    }
-
-    fn evict_extras(&self) {
-        loop {
-            let extras: Vec<(TableKey, u64)> = self
-                .map
-                .iter()
-                .filter(|e| !e.pinned)
-                .map(|e| (e.key().clone(), e.last_used.load(Ordering::Relaxed)))
-                .collect();
-            if extras.len() <= self.max_extra_entries {
-                return;
-            }
-            if let Some((oldest, _)) = extras.into_iter().min_by_key(|(_, t)| *t) {
-                self.map.remove(&oldest);
-            }
+    /// Bytes, entries and evictions.
+    pub fn stats(&self) -> CacheStats {
+        let uncached = self.uncached.load(Ordering::Relaxed);
+        CacheStats {
+            bytes: self.cache.weight(),
+            capacity_bytes: self.capacity_bytes,
+            entries: self.cache.len() as u64,
+            evictions: self.evictions.0.load(Ordering::Relaxed).saturating_sub(uncached),
+            uncached,
         }
     }
 }
@@ -125,35 +154,58 @@ impl TableCache {
 #[cfg(test)]
 mod tests {
     use super::*;
+    use ratewell_proto::rule::{RateTable, TableHeader};
 
-    fn tables(name: &str) -> Arc<SpeciesTables> {
-        let grid = LogGrid::from_range(1e3, 1e4, 2).unwrap();
-        Arc::new(SpeciesTables::new(name.into(), grid, vec![], vec![]))
+    /// A table set of `knots` knots and `n` transitions on a grid from 1e3 K.
+    fn tables(n: usize, knots: usize) -> Arc<SpeciesTables> {
+        let grid = LogGrid::new(3.0, 0.1, knots).unwrap();
+        let header = |u: u32| TableHeader {
+            upper: u + 1,
+            lower: 1,
+            g_lower: 1.0,
+            g_upper: 3.0,
+            excitation_energy_k: 1e4,
+            source_t_min_k: 1e3,
+            source_t_max_k: 1e5,
+            approximate: false,
+        };
+        let rows: Vec<RateTable> = (1..=n as u32)
+            .map(|u| RateTable::from_knots(header(u), grid, vec![0.0; knots]).unwrap())
+            .collect();
+        Arc::new(SpeciesTables::new("A".into(), grid, rows, vec![]))
+    }
+
+    fn key(i: usize) -> TableKey {
+        TableKey::new("h", "A", &LogGrid::new(3.0, 0.1, 10 + i).unwrap())
     }
 
     #[test]
-    fn extra_entries_are_capped_and_pinned_ones_kept() {
-        let cache = TableCache::new(2);
-        let g = |n: u32| LogGrid::from_range(1e3, 1e5, n).unwrap();
-        cache.insert(TableKey::new("h", "A", &g(1)), tables("A"), true);
-        for n in 2..6 {
-            cache.insert(TableKey::new("h", "A", &g(n)), tables("A"), false);
+    fn bytes_stay_within_the_budget_and_evictions_are_counted() {
+        let one = tables(20, 100).table_bytes() as u64;
+        let cache = TableCache::new(5 * one);
+        for i in 0..40 {
+            let t = cache.get_or_build::<()>(key(i), || Ok(tables(20, 100))).unwrap();
+            assert_eq!(t.tables.len(), 20);
+            let s = cache.stats();
+            assert!(s.bytes <= s.capacity_bytes, "{s:?}");
         }
-        assert_eq!(cache.len(), 3);
-        assert!(cache.get(&TableKey::new("h", "A", &g(1))).is_some());
-        assert!(cache.get(&TableKey::new("h", "A", &g(5))).is_some());
-        assert!(cache.get(&TableKey::new("h", "A", &g(2))).is_none());
+        let s = cache.stats();
+        assert!(s.entries <= 5 && s.entries >= 1, "{s:?}");
+        assert!(s.evictions >= 35, "{s:?}");
+        assert_eq!(s.uncached, 0);
         cache.remove_dataset("h");
-        assert!(cache.is_empty());
+        assert_eq!(cache.stats().entries, 0);
     }
 
     #[test]
-    fn the_first_insert_wins() {
-        let cache = TableCache::new(4);
-        let grid = LogGrid::from_range(1e3, 1e5, 3).unwrap();
-        let first = cache.insert(TableKey::new("h", "A", &grid), tables("first"), true);
-        let second = cache.insert(TableKey::new("h", "A", &grid), tables("second"), true);
-        assert_eq!(first.species, "first");
-        assert_eq!(second.species, "first");
+    fn a_hit_does_not_build_and_an_oversized_set_is_not_kept() {
+        let cache = TableCache::new(1 << 20);
+        cache.get_or_build::<()>(key(0), || Ok(tables(2, 10))).unwrap();
+        let again = cache.get_or_build::<()>(key(0), || panic!("built twice"));
+        assert!(again.is_ok());
+        let small = TableCache::new(100);
+        small.get_or_build::<()>(key(1), || Ok(tables(20, 100))).unwrap();
+        let s = small.stats();
+        assert_eq!((s.entries, s.uncached, s.evictions), (0, 1, 0), "{s:?}");
     }
 }

@@ -16,7 +16,7 @@ pub mod sources;
 pub mod species;
 
 pub use build::{GridSamples, UpsilonSource, build_table, build_table_on};
-pub use cache::{TableCache, TableKey};
+pub use cache::{CacheStats, TableCache, TableKey};
 pub use source_range::source_range_k;
 pub use species::SpeciesTables;
 
