@@ -140,4 +140,13 @@ async fn calls_datasets_and_loads_are_counted() {
         Some(0.0),
         "{text}"
     );
+    assert!(
+        sample(&text, "ratewell_grid_cache_capacity_bytes").is_some_and(|b| b > 0.0),
+        "{text}"
+    );
+    assert_eq!(
+        sample(&text, "ratewell_grid_cache_evictions_total"),
+        Some(0.0),
+        "{text}"
+    );
 }

@@ -60,6 +60,10 @@ pub struct Metrics {
     in_flight: Gauge,
     shed: Counter,
     table_bytes: Gauge,
+    grid_cache_bytes: Gauge,
+    grid_cache_capacity: Gauge,
+    grid_cache_entries: Gauge,
+    grid_cache_evictions: Counter,
     datasets: Family<DatasetLabels, Gauge>,
     reloads: Family<ResultLabels, Counter>,
 }
@@ -99,6 +103,32 @@ impl Default for Metrics {
             prometheus_client::registry::Unit::Bytes,
             table_bytes.clone(),
         );
+        let grid_cache_bytes = Gauge::default();
+        registry.register_with_unit(
+            "grid_cache",
+            "Heap bytes of table sets cached for requests' own grids (bounded by table_cache_bytes)",
+            prometheus_client::registry::Unit::Bytes,
+            grid_cache_bytes.clone(),
+        );
+        let grid_cache_capacity = Gauge::default();
+        registry.register_with_unit(
+            "grid_cache_capacity",
+            "The byte budget of the own-grid table cache (table_cache_bytes)",
+            prometheus_client::registry::Unit::Bytes,
+            grid_cache_capacity.clone(),
+        );
+        let grid_cache_entries = Gauge::default();
+        registry.register(
+            "grid_cache_entries",
+            "Table sets in the own-grid cache",
+            grid_cache_entries.clone(),
+        );
+        let grid_cache_evictions = Counter::default();
+        registry.register(
+            "grid_cache_evictions",
+            "Table sets evicted from the own-grid cache to stay within its budget",
+            grid_cache_evictions.clone(),
+        );
         let datasets = Family::<DatasetLabels, Gauge>::default();
         registry.register(
             "dataset_loaded",
@@ -114,6 +144,10 @@ impl Default for Metrics {
             in_flight,
             shed,
             table_bytes,
+            grid_cache_bytes,
+            grid_cache_capacity,
+            grid_cache_entries,
+            grid_cache_evictions,
             datasets,
             reloads,
         }
@@ -154,6 +188,14 @@ impl Metrics {
     pub fn render(&self, state: &crate::api::AppState) -> String {
         self.in_flight.set(state.in_flight() as i64);
         self.table_bytes.set(state.engine.table_bytes() as i64);
+        let cache = state.engine.cache_stats();
+        self.grid_cache_bytes.set(cache.bytes as i64);
+        self.grid_cache_capacity.set(cache.capacity_bytes as i64);
+        self.grid_cache_entries.set(cache.entries as i64);
+        // The cache counts since start; the counter follows it.
+        let seen = self.grid_cache_evictions.get();
+        self.grid_cache_evictions
+            .inc_by(cache.evictions.saturating_sub(seen));
         self.datasets.clear();
         for loaded in state.engine.datasets() {
             let s = &loaded.stamp;
