@@ -49,8 +49,11 @@ pub fn shorten_numbers(text: &str) -> String {
             // Part of a word (a hash, an identifier): kept as written.
             let joined = |b: Option<&u8>| b.is_some_and(|b| b.is_ascii_alphanumeric() || *b == b'_');
             let in_word = joined(start.checked_sub(1).and_then(|p| bytes.get(p))) || joined(bytes.get(i));
+            // 64 digits and no point: a content hash that happens to hold no letter (a pin
+            // of all zeros, say), echoed exactly so the client can compare it.
+            let hash_like = digits == 64 && !number.contains('.');
             match number.parse::<f64>() {
-                Ok(v) if digits > MAX_DIGIT_RUN && !in_word => out.push_str(&format!("{v:e}")),
+                Ok(v) if digits > MAX_DIGIT_RUN && !in_word && !hash_like => out.push_str(&format!("{v:e}")),
                 _ => out.push_str(number),
             }
         } else {
@@ -112,6 +115,9 @@ mod tests {
         // Ordinary numbers, indices and versions are kept as written.
         let plain = "densities[12] = 123456.5 cm^-3 in demo@1.0.0 at 0.25, hash f0123456789012345678901234a";
         assert_eq!(shorten_numbers(plain), plain);
+        // A 64-digit content hash with no letter is kept whole.
+        let pin = format!("the request expected {}", "0".repeat(64));
+        assert_eq!(shorten_numbers(&pin), pin);
     }
 
     #[test]
