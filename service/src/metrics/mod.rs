@@ -3,8 +3,9 @@
 //! OpenMetrics text on a separate plain-HTTP address (`metrics_listen`, off by default) by
 //! [`endpoint`]; calls are observed by the server layer in [`layer`].
 //!
-//! Label values are bounded whatever clients send: a method the server does not implement is
-//! counted as `unknown`, and status codes are the 17 of the gRPC specification.
+//! Label values are bounded whatever clients send: a path that is not one of the served methods
+//! (read from the contract's descriptor sets) is counted as `unknown`, even when the call is
+//! refused before routing, and status codes are the 17 of the gRPC specification.
 
 pub mod endpoint;
 pub mod layer;
@@ -51,9 +52,38 @@ fn latency_histogram() -> Histogram {
     Histogram::new(exponential_buckets(50e-6, 2.0, 20))
 }
 
+/// "package.Service/Method" of every method the server serves: ours and standard health from
+/// their descriptor sets, and the two reflection services (standard names).
+fn served_methods() -> std::collections::HashSet<String> {
+    use prost::Message;
+    let mut methods = std::collections::HashSet::new();
+    for bytes in [
+        ratewell_proto::FILE_DESCRIPTOR_SET,
+        tonic_health::pb::FILE_DESCRIPTOR_SET,
+    ] {
+        let Ok(set) = prost_types::FileDescriptorSet::decode(bytes) else {
+            continue;
+        };
+        for file in set.file {
+            for service in &file.service {
+                for method in &service.method {
+                    methods.insert(format!("{}.{}/{}", file.package(), service.name(), method.name()));
+                }
+            }
+        }
+    }
+    for version in ["v1", "v1alpha"] {
+        methods.insert(format!(
+            "grpc.reflection.{version}.ServerReflection/ServerReflectionInfo"
+        ));
+    }
+    methods
+}
+
 /// Every metric the server keeps, and the registry that encodes them.
 #[derive(Debug)]
 pub struct Metrics {
+    methods: std::collections::HashSet<String>,
     registry: Registry,
     calls: Family<CallLabels, Counter>,
     latency: LatencyFamily,
@@ -138,6 +168,7 @@ impl Default for Metrics {
         let reloads = Family::<ResultLabels, Counter>::default();
         registry.register("dataset_loads", "LoadDataset calls, by result", reloads.clone());
         Self {
+            methods: served_methods(),
             registry,
             calls,
             latency,
@@ -157,10 +188,11 @@ impl Default for Metrics {
 impl Metrics {
     /// Records one answered call to gRPC `path` with `code`, `elapsed` after it arrived.
     pub fn record_call(&self, path: &str, code: Code, elapsed: Duration) {
-        let method = if code == Code::Unimplemented {
-            "unknown".to_owned()
+        let path = path.trim_start_matches('/');
+        let method = if self.methods.contains(path) {
+            path.to_owned()
         } else {
-            path.trim_start_matches('/').to_owned()
+            "unknown".to_owned()
         };
         self.calls
             .get_or_create(&CallLabels {
@@ -235,5 +267,26 @@ pub fn code_name(code: Code) -> &'static str {
         Code::Unavailable => "UNAVAILABLE",
         Code::DataLoss => "DATA_LOSS",
         Code::Unauthenticated => "UNAUTHENTICATED",
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn only_served_methods_become_labels() {
+        // gRPC over HTTP/2 spec: the path is "/" Service-Name "/" Method-Name.
+        let methods = served_methods();
+        for served in [
+            "ratewell.v1.Rates/LookupRates",
+            "ratewell.v1.Admin/LoadDataset",
+            "grpc.health.v1.Health/Check",
+            "grpc.reflection.v1.ServerReflection/ServerReflectionInfo",
+        ] {
+            assert!(methods.contains(served), "{served}");
+        }
+        // A made-up method of a served service, refused before routing, is not a label.
+        assert!(!methods.contains("ratewell.v1.Rates/MadeUp"));
     }
 }
