@@ -15,6 +15,7 @@
 //! - [`connections`]: connection limit and HTTP/2 handshake timeout at accept.
 //! - [`limits`]: the dataset, request, cache and connection limits and their typed refusal.
 //! - [`server`]: `run(listener, config, shutdown)`, used by the binary and the tests.
+//! - [`binary`]: the server process (flags, logs, signals) behind `ratewell-server`.
 //! - [`linger`]: lingering close of accepted connections, so last answers arrive whole.
 //! - [`tls`]: the server's TLS certificate and key from PEM files.
 //! - [`metrics`]: Prometheus metrics and their plain-HTTP endpoint.
@@ -23,6 +24,7 @@
 
 pub mod api;
 pub mod auth;
+pub mod binary;
 pub mod config;
 pub mod connections;
 pub mod dataset;

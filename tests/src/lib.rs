@@ -5,6 +5,8 @@
 //!   127.0.0.1:0 with a chosen [`Config`](ratewell_service::config::Config), waits for standard
 //!   health checking to report SERVING, hands out raw tonic clients, and shuts the server down
 //!   through a oneshot, awaiting its end.
+//! - [`child`]: [`child::ServerProcess`], the server as a real child process (signals, exit
+//!   within the grace period), its address read from its "serving" log line.
 //! - [`codata`]: the CODATA constants and the published rate constant the tests check against.
 //! - [`data`]: [`TempDataDir`], a uniquely named folder under the system temporary folder
 //!   holding copies of the repository's datasets and a deliberately broken one; removed on drop.
@@ -13,6 +15,7 @@
 //! - [`requests`]: builders for the wire requests the tests send, and status assertions
 //!   (code, key words of the message, tonic-types BadRequest field violations).
 
+pub mod child;
 pub mod codata;
 pub mod data;
 pub mod dataset_text;
