@@ -48,6 +48,12 @@ impl TableCache {
             .cloned()
     }
 
+    /// The tables already fetched for `key`, without fetching.
+    pub(crate) fn peek(&self, key: &TableKey) -> Option<Arc<LocalTables>> {
+        let slots = self.slots.lock().unwrap_or_else(PoisonError::into_inner);
+        slots.get(key).and_then(|slot| slot.get().cloned())
+    }
+
     /// Forgets every cached table set (the next fetch asks the server again).
     pub(crate) fn clear(&self) {
         self.slots.lock().unwrap_or_else(PoisonError::into_inner).clear();

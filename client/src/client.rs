@@ -10,7 +10,7 @@ use crate::health::{EndpointHealth, ServingStatus};
 use crate::local::LocalTables;
 use crate::populations::{PopulationQuery, check_answer, merge};
 use crate::rates::{RateLookup, RateQuery};
-use crate::retry::is_retryable;
+use crate::retry::{is_local_timeout, is_retryable, is_transport_failure};
 use crate::transition::TableGrid;
 use crate::transport::Pool;
 use crate::units::{EnergyUnit, check_temperatures};
@@ -144,6 +144,14 @@ impl Client {
 
     /// Runs one call with a time budget per attempt (sent as grpc-timeout and enforced here),
     /// failing over and retrying per the policy, under the overall deadline.
+    ///
+    /// An attempt ends in one of four ways: an answer (returned); a status the server sent
+    /// (retried only when [`is_retryable`]); a transport failure (no server answered: retried
+    /// on the next endpoint); or no answer within the attempt's budget, which from here looks
+    /// like a hung server (the server answers DEADLINE_EXCEEDED itself just before the budget
+    /// runs out when it is merely slow): retried on the next endpoint too. With
+    /// [`ClientConfig::wait_for_server`] set, failures to reach any server do not use up
+    /// attempts until that long has passed.
     async fn call<T, F, Fut>(
         &self,
         operation: &'static str,
@@ -157,8 +165,10 @@ impl Client {
     {
         let config = &self.inner.config;
         let policy = &config.retry;
+        let overall = policy.deadline.max(config.wait_for_server);
         let started = Instant::now();
-        let mut failures = 0u32;
+        // Failures that use up attempts, and every failure (the backoff grows with these).
+        let (mut counted, mut failures) = (0u32, 0u32);
         // The last real failure, reported if the overall deadline cuts a retry short.
         let mut last: Option<ClientError> = None;
         let refine = |address: &str, status: &Status| match dataset {
@@ -166,7 +176,7 @@ impl Client {
             None => ClientError::from_status(operation, address, status),
         };
         loop {
-            let remaining = policy.deadline.saturating_sub(started.elapsed());
+            let remaining = overall.saturating_sub(started.elapsed());
             let budget = config.call_timeout.min(remaining);
             let cut_short = budget < config.call_timeout;
             let timed_out = |last: Option<ClientError>, after| match last {
@@ -174,36 +184,100 @@ impl Client {
                 _ => ClientError::Timeout { operation, after },
             };
             if budget.is_zero() {
-                return Err(timed_out(last, policy.deadline));
+                return Err(timed_out(last, overall));
             }
             let (index, address, channel) = self.inner.pool.current();
             let attempt_started = Instant::now();
-            let status = match tokio::time::timeout(budget, attempt(channel, budget)).await {
-                Ok(Ok(value)) => return Ok(value),
-                Ok(Err(status)) => status,
-                Err(_) => return Err(timed_out(last, budget)),
-            };
-            let code = status.code();
-            // A server deadline firing first: DEADLINE_EXCEEDED, or tonic's server answer
-            // CANCELLED "Timeout expired" when the budget is all but spent.
-            let budget_spent = attempt_started.elapsed() >= budget.mul_f64(0.9);
-            if code == Code::DeadlineExceeded || (code == Code::Cancelled && budget_spent) {
-                return Err(timed_out(last, budget));
-            }
-            let retryable = is_retryable(&status);
+            let (failure, retryable, unreachable) =
+                match tokio::time::timeout(budget, attempt(channel, budget)).await {
+                    Ok(Ok(value)) => return Ok(value),
+                    // The channel's own grpc-timeout timer: no answer at all, as below.
+                    Ok(Err(status)) if is_local_timeout(&status) => {
+                        if cut_short {
+                            return Err(timed_out(last, budget));
+                        }
+                        (
+                            ClientError::Timeout {
+                                operation,
+                                after: budget,
+                            },
+                            true,
+                            false,
+                        )
+                    }
+                    Ok(Err(status)) => {
+                        let code = status.code();
+                        // A server deadline firing first: DEADLINE_EXCEEDED, or tonic's server
+                        // answer CANCELLED "Timeout expired" when the budget is all but spent.
+                        let budget_spent = attempt_started.elapsed() >= budget.mul_f64(0.9);
+                        if code == Code::DeadlineExceeded || (code == Code::Cancelled && budget_spent) {
+                            return Err(timed_out(last, budget));
+                        }
+                        let unreachable = code == Code::Unavailable || is_transport_failure(&status);
+                        (refine(address, &status), is_retryable(&status), unreachable)
+                    }
+                    // No answer at all within the budget: the server is hung or the network
+                    // is gone. Worth another endpoint if time is left.
+                    Err(_) if cut_short => return Err(timed_out(last, budget)),
+                    Err(_) => (
+                        ClientError::Timeout {
+                            operation,
+                            after: budget,
+                        },
+                        true,
+                        false,
+                    ),
+                };
             if retryable {
                 self.inner.pool.fail_over(index);
             }
             failures += 1;
+            let waiting = unreachable && started.elapsed() < config.wait_for_server;
+            if !waiting {
+                counted += 1;
+            }
             let wait = policy.jittered_backoff(failures - 1);
             let may_retry = retry == Retry::Idempotent
                 && retryable
-                && failures < policy.max_attempts
-                && started.elapsed() + wait < policy.deadline;
+                && counted < policy.max_attempts
+                && started.elapsed() + wait < overall;
             if !may_retry {
-                return Err(refine(address, &status));
+                return Err(failure);
             }
-            last = Some(refine(address, &status));
+            last = Some(failure);
+            tokio::time::sleep(wait).await;
+        }
+    }
+
+    /// Waits until some endpoint reports SERVING to standard health checking, trying each in
+    /// turn with backoff, for at most `limit`. For jobs started together with (or before) the
+    /// service. Returns the address that answered SERVING.
+    pub async fn wait_until_serving(&self, limit: Duration) -> Result<String, ClientError> {
+        let started = Instant::now();
+        let policy = &self.inner.config.retry;
+        let mut tries = 0u32;
+        let mut last = String::from("no endpoint was tried");
+        loop {
+            for (address, channel) in self.inner.pool.all() {
+                let left = limit.saturating_sub(started.elapsed());
+                if left.is_zero() {
+                    break;
+                }
+                let timeout = self.inner.config.call_timeout.min(left);
+                match check_health(channel, address, timeout).await {
+                    Ok(ServingStatus::Serving) => return Ok(address.to_string()),
+                    Ok(other) => last = format!("{address}: {other:?}"),
+                    Err(e) => last = e.to_string(),
+                }
+            }
+            let wait = policy.jittered_backoff(tries);
+            tries += 1;
+            if started.elapsed() + wait >= limit {
+                return Err(ClientError::Transport {
+                    endpoint: self.inner.config.endpoints.join(", "),
+                    message: format!("no endpoint was SERVING within {limit:?} (last: {last})"),
+                });
+            }
             tokio::time::sleep(wait).await;
         }
     }
@@ -276,13 +350,7 @@ impl Client {
     ) -> Result<Arc<LocalTables>, ClientError> {
         let dataset = self.require_dataset()?;
         check_species(species)?;
-        let key = TableKey {
-            id: dataset.id().to_string(),
-            version: dataset.version().unwrap_or_default().to_string(),
-            content_hash: dataset.pinned_content_hash().unwrap_or_default().to_string(),
-            species: species.to_string(),
-            grid: grid.map(TableGrid::key),
-        };
+        let key = table_key(dataset, species, grid);
         let folder = self.inner.config.cache_dir.clone();
         let wait = self.inner.config.retry.deadline + self.inner.config.call_timeout;
         self.inner
@@ -334,8 +402,43 @@ impl Client {
         LocalTables::from_wire(response)
     }
 
-    /// Rate coefficients looked up on the server in one call.
+    /// Rate coefficients looked up on the server in one call (see
+    /// [`ClientConfig::fall_back_to_fetched_tables`] for what happens when no server answers).
     pub async fn lookup_rates(&self, query: &RateQuery) -> Result<RateLookup, ClientError> {
+        let answer = self.lookup_rates_remote(query).await;
+        self.or_fetched_tables(query, answer)
+    }
+
+    /// An answer from already fetched tables in place of `failed`, when the client is set to
+    /// fall back, `failed` means no server was reached, and the tables are held.
+    fn or_fetched_tables(
+        &self,
+        query: &RateQuery,
+        answer: Result<RateLookup, ClientError>,
+    ) -> Result<RateLookup, ClientError> {
+        let error = match answer {
+            Ok(a) => return Ok(a),
+            Err(e) => e,
+        };
+        if !self.inner.config.fall_back_to_fetched_tables || !error.is_unreachable() {
+            return Err(error);
+        }
+        let Some(dataset) = self.dataset.as_ref() else {
+            return Err(error);
+        };
+        let Some(tables) = self
+            .inner
+            .cache
+            .peek(&table_key(dataset, &query.species, query.grid))
+        else {
+            return Err(error);
+        };
+        let mut local = tables.evaluate(query)?;
+        local.cautions.push(FALLBACK_CAUTION.to_string());
+        Ok(local)
+    }
+
+    async fn lookup_rates_remote(&self, query: &RateQuery) -> Result<RateLookup, ClientError> {
         let dataset = self.require_dataset()?;
         check_species(&query.species)?;
         check_temperatures(&query.temperatures, query.options.temperature_unit)?;
@@ -358,8 +461,25 @@ impl Client {
 
     /// Rate coefficients for a very large batch: the temperatures are split into messages of
     /// `temperatures_per_message` (0: the configured default) and streamed; the answers are
-    /// merged into one transition-major result. The whole stream is retried as one call.
+    /// merged into one transition-major result.
+    ///
+    /// A stream cut part-way (a server dying or stopping) is resumed on the next endpoint from
+    /// the first unanswered message, under the call's retry policy. Every part comes from one
+    /// dataset: once the first answer arrives, the rest of the stream (resumed parts included)
+    /// is pinned to its content hash, so a server holding another version refuses rather than
+    /// mixing two versions in one result.
     pub async fn lookup_rates_stream(
+        &self,
+        query: &RateQuery,
+        temperatures_per_message: usize,
+    ) -> Result<RateLookup, ClientError> {
+        let answer = self
+            .lookup_rates_stream_remote(query, temperatures_per_message)
+            .await;
+        self.or_fetched_tables(query, answer)
+    }
+
+    async fn lookup_rates_stream_remote(
         &self,
         query: &RateQuery,
         temperatures_per_message: usize,
@@ -375,57 +495,76 @@ impl Client {
         let ranges: Arc<Vec<std::ops::Range<usize>>> =
             Arc::new((0..total).step_by(per).map(|s| s..(s + per).min(total)).collect());
         let shared = Arc::new((query.clone(), dataset.clone()));
+        // Answers received so far, kept across attempts so a retry resumes after them.
+        let received: Arc<std::sync::Mutex<Vec<pb::LookupRatesResponse>>> = Arc::default();
         let n = self.max_bytes();
-        let responses = self
-            .call(
-                "LookupRatesStream",
-                Retry::Idempotent,
-                Some(dataset),
-                |ch, budget| {
-                    let (shared, ranges) = (shared.clone(), ranges.clone());
-                    async move {
-                        let outgoing = futures::stream::iter(
-                            (0..ranges.len()).map(move |i| shared.0.to_wire(&shared.1, ranges[i].clone())),
-                        );
-                        let mut c = RatesClient::new(ch)
-                            .max_decoding_message_size(n)
-                            .max_encoding_message_size(n);
-                        let mut incoming = c
-                            .lookup_rates_stream(request(outgoing, budget))
-                            .await?
-                            .into_inner();
-                        let mut out = Vec::new();
-                        while let Some(m) = incoming.message().await? {
-                            out.push(m);
-                        }
-                        Ok(out)
+        self.call(
+            "LookupRatesStream",
+            Retry::Idempotent,
+            Some(dataset),
+            |ch, budget| {
+                let (shared, ranges, received) = (shared.clone(), ranges.clone(), received.clone());
+                async move {
+                    let (from, resumed_on) = {
+                        let got = received.lock().expect("stream answers");
+                        (got.len(), got.first().and_then(|r| r.stamp.clone()))
+                    };
+                    if from == ranges.len() {
+                        return Ok(());
                     }
-                },
-            )
-            .await?;
-        if responses.len() != ranges.len() {
-            return Err(ClientError::Malformed {
-                operation: "LookupRatesStream",
-                message: format!(
-                    "{} answers for {} request messages",
-                    responses.len(),
-                    ranges.len()
-                ),
-            });
-        }
-        let mut merged: Option<RateLookup> = None;
+                    // After the first answer, the rest is pinned to its content hash.
+                    let selector_dataset = match &resumed_on {
+                        Some(stamp) if shared.1.pinned_content_hash().is_none() => shared
+                            .1
+                            .clone()
+                            .with_version(stamp.version.clone())
+                            .pinned(&stamp.content_hash)
+                            .map_err(|e| Status::internal(e.to_string()))?,
+                        _ => shared.1.clone(),
+                    };
+                    let messages: Vec<_> = ranges[from..]
+                        .iter()
+                        .map(|r| shared.0.to_wire(&selector_dataset, r.clone()))
+                        .collect();
+                    let mut c = RatesClient::new(ch)
+                        .max_decoding_message_size(n)
+                        .max_encoding_message_size(n);
+                    let mut incoming = c
+                        .lookup_rates_stream(request(futures::stream::iter(messages), budget))
+                        .await?
+                        .into_inner();
+                    while let Some(m) = incoming.message().await? {
+                        let mut got = received.lock().expect("stream answers");
+                        if got.len() == ranges.len() {
+                            return Err(Status::internal("more answers than request messages"));
+                        }
+                        got.push(m);
+                    }
+                    let got = received.lock().expect("stream answers").len();
+                    if got < ranges.len() {
+                        return Err(Status::internal(format!(
+                            "stream ended after {got} answers for {} request messages",
+                            ranges.len()
+                        )));
+                    }
+                    Ok(())
+                }
+            },
+        )
+        .await?;
+        let responses = std::mem::take(&mut *received.lock().expect("stream answers"));
+        let mut parts = Vec::with_capacity(responses.len());
         for (response, range) in responses.into_iter().zip(ranges.iter()) {
             let stamp = dataset.check_stamp("LookupRatesStream", response.stamp.as_ref())?;
-            let part = RateLookup::from_wire(response, stamp, range.len(), query.options.direction)?;
-            match &mut merged {
-                None => merged = Some(part),
-                Some(m) => m.append_temperatures(part)?,
-            }
+            parts.push(RateLookup::from_wire(
+                response,
+                stamp,
+                range.len(),
+                query.options.direction,
+            )?);
         }
-        merged.ok_or_else(|| ClientError::Malformed {
-            operation: "LookupRatesStream",
-            message: "no answer".into(),
-        })
+        // Every part must carry the same stamp (checked there): one result, one dataset.
+        RateLookup::concat_temperatures(parts)
     }
 
     /// Level populations, emissivities and critical densities in one call.
@@ -599,6 +738,21 @@ async fn check_health(
         }),
     }
 }
+
+/// What a table set is cached under: what was asked, not what was answered.
+fn table_key(dataset: &DatasetRef, species: &str, grid: Option<TableGrid>) -> TableKey {
+    TableKey {
+        id: dataset.id().to_string(),
+        version: dataset.version().unwrap_or_default().to_string(),
+        content_hash: dataset.pinned_content_hash().unwrap_or_default().to_string(),
+        species: species.to_string(),
+        grid: grid.map(TableGrid::key),
+    }
+}
+
+/// The caution added to an answer evaluated from fetched tables because no server answered.
+pub const FALLBACK_CAUTION: &str = "answered on this client from tables fetched earlier, because no \
+     server could be reached (same evaluation rule and dataset stamp; fall_back_to_fetched_tables)";
 
 fn check_species(species: &str) -> Result<(), ClientError> {
     if species.trim().is_empty() {

@@ -30,8 +30,22 @@ pub struct ClientConfig {
     pub call_timeout: Duration,
     /// Time allowed to open a connection.
     pub connect_timeout: Duration,
-    /// Retries of idempotent calls (attempts, backoff, overall deadline).
+    /// Retries of idempotent calls (attempts, backoff, overall deadline). An attempt that gets
+    /// no answer within `call_timeout` (a hung server) is retried on the next endpoint like a
+    /// refused connection.
     pub retry: RetryPolicy,
+    /// How long a call keeps trying while no endpoint can be reached at all (refused or reset
+    /// connections, servers stopping), for jobs that start before the service or span its
+    /// restart. Zero: such failures count against `retry.max_attempts` like any other. When
+    /// set, they do not count, waits are capped at `retry.max_backoff`, and the call's overall
+    /// deadline is at least this long.
+    pub wait_for_server: Duration,
+    /// When no server can be reached (every endpoint refused, reset or hung, after the retry
+    /// policy), answer a server lookup ([`crate::Client::lookup_rates`] and its stream form)
+    /// from this client's already fetched tables of that species and grid, if it holds them:
+    /// the same evaluation rule, so the same bits, the same stamp, and a caution saying so.
+    /// Off by default: a job that must notice a lost service should see the error.
+    pub fall_back_to_fetched_tables: bool,
     /// Largest message sent or received, bytes.
     pub max_message_bytes: usize,
     /// HTTP/2 keep-alive ping interval (`None`: no pings).
@@ -59,6 +73,8 @@ impl ClientConfig {
             call_timeout: DEFAULT_CALL_TIMEOUT,
             connect_timeout: DEFAULT_CONNECT_TIMEOUT,
             retry: RetryPolicy::default(),
+            wait_for_server: Duration::ZERO,
+            fall_back_to_fetched_tables: false,
             max_message_bytes: DEFAULT_MAX_MESSAGE_BYTES,
             keepalive_interval: Some(DEFAULT_KEEPALIVE_INTERVAL),
             dataset: None,
@@ -94,6 +110,13 @@ impl ClientConfig {
     /// Another retry policy.
     pub fn with_retry(mut self, retry: RetryPolicy) -> Self {
         self.retry = retry;
+        self
+    }
+
+    /// Keep trying for up to `wait` while no server can be reached (see
+    /// [`ClientConfig::wait_for_server`]).
+    pub fn with_wait_for_server(mut self, wait: Duration) -> Self {
+        self.wait_for_server = wait;
         self
     }
 

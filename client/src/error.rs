@@ -134,6 +134,19 @@ impl ClientError {
         }
     }
 
+    /// Whether this error means that no server could be reached or none answered: a refused,
+    /// reset or hung connection, or a server stopping. A server's own refusal is not.
+    pub fn is_unreachable(&self) -> bool {
+        match self {
+            ClientError::Status { code, .. } => matches!(
+                code,
+                tonic::Code::Unavailable | tonic::Code::Unknown | tonic::Code::Cancelled
+            ),
+            ClientError::Timeout { .. } | ClientError::Transport { .. } => true,
+            _ => false,
+        }
+    }
+
     /// The process exit code that programs built on this library use for this error (the
     /// `ratewell` tool and the deploy demo): 2 for a bad argument or unknown transition, 3 for
     /// a dataset hash, pin or stamp mismatch, 1 for everything else (server, connection,

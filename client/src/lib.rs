@@ -53,7 +53,7 @@ mod transition;
 mod transport;
 pub mod units;
 
-pub use client::Client;
+pub use client::{Client, FALLBACK_CAUTION};
 pub use compare::{LocalComparison, TableDifference, compare_tables, relative_difference};
 pub use config::{
     ClientConfig, DEFAULT_CALL_TIMEOUT, DEFAULT_CONNECT_TIMEOUT, DEFAULT_ENDPOINT,
@@ -65,7 +65,7 @@ pub use health::{EndpointHealth, ServingStatus};
 pub use local::LocalTables;
 pub use populations::PopulationQuery;
 pub use rates::{EvalOptions, RateBuffers, RateLookup, RateQuery};
-pub use retry::{RetryPolicy, is_retryable};
+pub use retry::{RetryPolicy, is_retryable, is_transport_failure};
 pub use table_file::{TABLE_FILE_EXTENSION, TABLE_FILE_MAGIC, TABLE_FILE_VERSION};
 pub use transition::{TableGrid, Transition};
 pub use units::{DensityUnit, EnergyUnit, PowerUnit, RateUnit, TemperatureUnit};

@@ -192,40 +192,81 @@ impl RateLookup {
         })
     }
 
-    /// Appends the next chunk of temperatures (same transitions, same dataset) to this answer.
-    pub(crate) fn append_temperatures(&mut self, next: RateLookup) -> Result<(), ClientError> {
-        check_same_stamp("LookupRatesStream", &self.stamp, &next.stamp)?;
-        if next.transitions != self.transitions {
+    /// Joins answers for consecutive chunks of temperatures (same transitions, same dataset)
+    /// into one, in one pass over the values (each row of the result is the chunks' rows of
+    /// that transition, in order).
+    pub(crate) fn concat_temperatures(parts: Vec<RateLookup>) -> Result<RateLookup, ClientError> {
+        let mut parts = parts.into_iter();
+        let Some(mut first) = parts.next() else {
             return Err(ClientError::Malformed {
                 operation: "LookupRatesStream",
-                message: "a later part of the answer lists other transitions".into(),
+                message: "no answer".into(),
             });
+        };
+        let rest: Vec<RateLookup> = parts.collect();
+        for next in &rest {
+            check_same_stamp("LookupRatesStream", &first.stamp, &next.stamp)?;
+            if next.transitions != first.transitions || next.rate_unit != first.rate_unit {
+                return Err(ClientError::Malformed {
+                    operation: "LookupRatesStream",
+                    message: "a later part of the answer lists other transitions or units".into(),
+                });
+            }
         }
-        let (n0, n1) = (self.temperature_count, next.temperature_count);
-        let merge = |a: &[f64], b: &[f64]| -> Vec<f64> {
-            if a.is_empty() && b.is_empty() {
+        let rows = first.transitions.len();
+        let total: usize = first.temperature_count + rest.iter().map(|p| p.temperature_count).sum::<usize>();
+        fn join<T: Copy>(first: (&[T], usize), rest: &[(&[T], usize)], rows: usize, total: usize) -> Vec<T> {
+            if first.0.is_empty() && rest.iter().all(|(v, _)| v.is_empty()) {
                 return Vec::new();
             }
-            a.chunks(n0.max(1))
-                .zip(b.chunks(n1.max(1)))
-                .flat_map(|(x, y)| x.iter().chain(y).copied())
-                .collect()
-        };
-        self.excitation = merge(&self.excitation, &next.excitation);
-        self.deexcitation = merge(&self.deexcitation, &next.deexcitation);
-        self.flags = self
-            .flags
-            .chunks(n0.max(1))
-            .zip(next.flags.chunks(n1.max(1)))
-            .flat_map(|(x, y)| x.iter().chain(y).copied())
-            .collect();
-        self.temperature_count = n0 + n1;
-        for c in next.cautions {
-            if !self.cautions.contains(&c) {
-                self.cautions.push(c);
+            let mut out = Vec::with_capacity(rows * total);
+            for row in 0..rows {
+                for &(values, n) in std::iter::once(&first).chain(rest) {
+                    out.extend_from_slice(&values[row * n..(row + 1) * n]);
+                }
+            }
+            out
+        }
+        let n0 = first.temperature_count;
+        let excitation = join(
+            (&first.excitation, n0),
+            &rest
+                .iter()
+                .map(|p| (&p.excitation[..], p.temperature_count))
+                .collect::<Vec<_>>(),
+            rows,
+            total,
+        );
+        let deexcitation = join(
+            (&first.deexcitation, n0),
+            &rest
+                .iter()
+                .map(|p| (&p.deexcitation[..], p.temperature_count))
+                .collect::<Vec<_>>(),
+            rows,
+            total,
+        );
+        let flags = join(
+            (&first.flags, n0),
+            &rest
+                .iter()
+                .map(|p| (&p.flags[..], p.temperature_count))
+                .collect::<Vec<_>>(),
+            rows,
+            total,
+        );
+        for next in rest {
+            for c in next.cautions {
+                if !first.cautions.contains(&c) {
+                    first.cautions.push(c);
+                }
             }
         }
-        Ok(())
+        first.excitation = excitation;
+        first.deexcitation = deexcitation;
+        first.flags = flags;
+        first.temperature_count = total;
+        Ok(first)
     }
 
     /// Index of transition `t` at temperature `j` in the value arrays.
@@ -337,16 +378,18 @@ mod tests {
     // The transition-major layout is the contract of rates.proto (LookupRatesResponse).
     #[test]
     fn chunks_merge_into_the_transition_major_layout() {
-        let mut a = lookup(2, 0.0); // rows [0, 1], [2, 3]
+        let a = lookup(2, 0.0); // rows [0, 1], [2, 3]
         let b = lookup(3, 10.0); // rows [10, 11, 12], [13, 14, 15]
-        a.append_temperatures(b).unwrap();
-        assert_eq!(a.temperature_count, 5);
+        let c = lookup(1, 20.0); // rows [20], [21]
+        let a = RateLookup::concat_temperatures(vec![a, b, c]).unwrap();
+        assert_eq!(a.temperature_count, 6);
         assert_eq!(
             a.excitation,
-            vec![0.0, 1.0, 10.0, 11.0, 12.0, 2.0, 3.0, 13.0, 14.0, 15.0]
+            vec![0.0, 1.0, 10.0, 11.0, 12.0, 20.0, 2.0, 3.0, 13.0, 14.0, 15.0, 21.0]
         );
+        assert_eq!(a.flags.len(), 12);
         assert!(a.deexcitation.is_empty());
-        assert_eq!(a.index(1, 2), 7);
+        assert_eq!(a.index(1, 2), 8);
         assert_eq!(a.excitation[a.index(1, 2)], 13.0);
     }
 

@@ -36,17 +36,42 @@ impl Default for RetryPolicy {
 }
 
 /// Whether a failure is worth another attempt. UNAVAILABLE (the server or the connection is
-/// not there right now) always is; RESOURCE_EXHAUSTED only when the server attached a retry
-/// hint (google.rpc.RetryInfo), which it does when it sheds load. A batch over a configured
-/// limit is also RESOURCE_EXHAUSTED but carries no hint: asking again would not help. Every
-/// other code is an answer that will not change by asking again.
+/// not there right now, or the server is stopping) always is; so is any failure of the
+/// transport itself, whatever code tonic gave it (a connection reset mid-call is Unknown or
+/// Internal with an h2 error inside): no server answered, so asking another one may help.
+/// RESOURCE_EXHAUSTED is retried only when the server attached a retry hint
+/// (google.rpc.RetryInfo), which it does when it sheds load; a batch over a configured limit is
+/// also RESOURCE_EXHAUSTED but carries no hint, and asking again would not help. Every other
+/// code is an answer that will not change by asking again.
 pub fn is_retryable(status: &tonic::Status) -> bool {
     use tonic_types::StatusExt;
     match status.code() {
         Code::Unavailable => true,
         Code::ResourceExhausted => status.get_details_retry_info().is_some(),
-        _ => false,
+        _ => is_transport_failure(status),
     }
+}
+
+/// Whether `status` was made on this side from a transport error (connection refused, reset,
+/// closed mid-call) rather than sent by a server. A server's status arrives as headers and has
+/// no error source; tonic attaches the underlying error to the statuses it makes from transport
+/// failures. A deadline is never counted here: it is the caller's budget, not a lost server.
+pub fn is_transport_failure(status: &tonic::Status) -> bool {
+    status.code() != Code::DeadlineExceeded && std::error::Error::source(status).is_some()
+}
+
+/// Whether `status` is the channel's own timer firing (tonic enforces the grpc-timeout it
+/// sends and answers CANCELLED "Timeout expired" itself): no answer came at all, which is how a
+/// hung server looks. A server that is merely slow answers DEADLINE_EXCEEDED first.
+pub(crate) fn is_local_timeout(status: &tonic::Status) -> bool {
+    let mut source = std::error::Error::source(status);
+    while let Some(error) = source {
+        if error.is::<tonic::TimeoutExpired>() {
+            return true;
+        }
+        source = error.source();
+    }
+    false
 }
 
 impl RetryPolicy {
@@ -157,6 +182,20 @@ mod tests {
         assert!(is_retryable(&shed));
         // Over a configured limit: no hint, no retry.
         assert!(!is_retryable(&Status::resource_exhausted("batch too large")));
+        // A transport failure is retried whatever code tonic gave it; the same code sent by a
+        // server (no error source) is not.
+        let reset = Status::from_error(Box::new(std::io::Error::new(
+            std::io::ErrorKind::ConnectionReset,
+            "connection reset by peer",
+        )));
+        assert!(is_transport_failure(&reset) && is_retryable(&reset), "{reset:?}");
+        assert!(!is_retryable(&Status::unknown("server said unknown")));
+        // The channel's own timer is told apart from a server's CANCELLED.
+        let own = Status::from_error(Box::new(tonic::TimeoutExpired(())));
+        assert_eq!(own.code(), Code::Cancelled);
+        assert!(is_local_timeout(&own));
+        assert!(!is_local_timeout(&Status::cancelled("Timeout expired")));
+        assert!(!is_retryable(&Status::internal("server said internal")));
         for code in [
             Code::InvalidArgument,
             Code::NotFound,

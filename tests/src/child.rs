@@ -20,6 +20,14 @@ macro_rules! server_binary {
     };
 }
 
+/// A loopback address that was free a moment ago (bound and released), for a server started
+/// later on a known port.
+pub fn free_loopback_address() -> SocketAddr {
+    std::net::TcpListener::bind("127.0.0.1:0")
+        .and_then(|l| l.local_addr())
+        .expect("a free loopback port")
+}
+
 /// Longest wait for a child to print its "serving" line (debug build, loaded 2-core machine).
 const START_TIMEOUT: Duration = Duration::from_secs(60);
 
@@ -47,8 +55,13 @@ impl ServerProcess {
     /// Starts the server `binary` with `args` (after `--listen 127.0.0.1:0 --json-logs`) and
     /// waits for it to serve. Integration tests pass [`server_binary!`](crate::server_binary).
     pub fn spawn(binary: &str, args: &[&str]) -> Self {
+        Self::spawn_on(binary, "127.0.0.1:0", args)
+    }
+
+    /// [`Self::spawn`] listening on `listen` (for a client started before its server).
+    pub fn spawn_on(binary: &str, listen: &str, args: &[&str]) -> Self {
         let mut child = Command::new(binary)
-            .args(["--listen", "127.0.0.1:0", "--json-logs"])
+            .args(["--listen", listen, "--json-logs"])
             .args(args)
             .env_remove("RUST_LOG")
             .stdin(Stdio::null())
