@@ -12,7 +12,7 @@ use crate::populations::{PopulationQuery, check_answer, merge};
 use crate::rates::{RateLookup, RateQuery};
 use crate::retry::{is_local_timeout, is_retryable, is_transport_failure};
 use crate::transition::TableGrid;
-use crate::transport::Pool;
+use crate::transport::{Connection, Pool};
 use crate::units::{EnergyUnit, check_temperatures};
 use ratewell_proto::pb;
 use ratewell_proto::pb::admin_client::AdminClient;
@@ -23,7 +23,6 @@ use ratewell_proto::pb::rates_client::RatesClient;
 use std::future::Future;
 use std::sync::Arc;
 use std::time::{Duration, Instant};
-use tonic::transport::Channel;
 use tonic::{Code, Request, Status};
 use tonic_health::pb::HealthCheckRequest;
 use tonic_health::pb::health_client::HealthClient;
@@ -160,7 +159,7 @@ impl Client {
         mut attempt: F,
     ) -> Result<T, ClientError>
     where
-        F: FnMut(Channel, Duration) -> Fut,
+        F: FnMut(Connection, Duration) -> Fut,
         Fut: Future<Output = Result<T, Status>>,
     {
         let config = &self.inner.config;
@@ -718,7 +717,7 @@ impl Client {
 }
 
 async fn check_health(
-    channel: Channel,
+    channel: Connection,
     address: &str,
     timeout: Duration,
 ) -> Result<ServingStatus, ClientError> {

@@ -18,12 +18,39 @@ pub const DEFAULT_MAX_MESSAGE_BYTES: usize = 64 * 1024 * 1024;
 /// HTTP/2 keep-alive ping interval, so a dead server is noticed between calls.
 pub const DEFAULT_KEEPALIVE_INTERVAL: Duration = Duration::from_secs(30);
 
+/// TLS for the connections: the certificate authority that signed the servers' certificates,
+/// from a PEM file, and optionally the name the certificates carry when it differs from the
+/// host in the address.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct TlsSettings {
+    /// PEM file of the certificate authority (or the self-signed server certificate) to trust.
+    pub ca_file: PathBuf,
+    /// The name to check the server certificate against (default: the address's host).
+    pub server_name: Option<String>,
+}
+
+impl TlsSettings {
+    /// Trust the certificate authority in `ca_file`.
+    pub fn new(ca_file: impl Into<PathBuf>) -> Self {
+        Self {
+            ca_file: ca_file.into(),
+            server_name: None,
+        }
+    }
+}
+
 /// Client settings. Start from [`ClientConfig::new`] and change what you need.
 #[derive(Debug, Clone)]
 pub struct ClientConfig {
-    /// Server addresses ("http://host:port"; "host:port" gets "http://"). With several, the
-    /// client uses one at a time and moves to the next on UNAVAILABLE or RESOURCE_EXHAUSTED.
+    /// Server addresses ("http://host:port", or "https://host:port" with [`Self::tls`];
+    /// "host:port" gets the scheme that `tls` implies). With several, the client uses one at a
+    /// time and moves to the next when one is unreachable, hung, stopping or shedding load.
     pub endpoints: Vec<String>,
+    /// A bearer token sent with every call (`authorization: Bearer ...`), for servers that
+    /// guard their calls with tokens. Send it only over TLS or inside a trusted network.
+    pub token: Option<String>,
+    /// TLS settings; `None`: plain HTTP/2 (addresses must be http://).
+    pub tls: Option<TlsSettings>,
     /// Start on a randomly chosen endpoint, so many jobs spread over the servers.
     pub spread_start: bool,
     /// Per-attempt time budget.
@@ -69,6 +96,8 @@ impl ClientConfig {
     pub fn new(endpoint: impl Into<String>) -> Self {
         Self {
             endpoints: vec![endpoint.into()],
+            token: None,
+            tls: None,
             spread_start: true,
             call_timeout: DEFAULT_CALL_TIMEOUT,
             connect_timeout: DEFAULT_CONNECT_TIMEOUT,
@@ -113,6 +142,18 @@ impl ClientConfig {
         self
     }
 
+    /// Sends `token` as a bearer token with every call.
+    pub fn with_token(mut self, token: impl Into<String>) -> Self {
+        self.token = Some(token.into());
+        self
+    }
+
+    /// Connects with TLS, trusting the certificate authority in `tls.ca_file`.
+    pub fn with_tls(mut self, tls: TlsSettings) -> Self {
+        self.tls = Some(tls);
+        self
+    }
+
     /// Keep trying for up to `wait` while no server can be reached (see
     /// [`ClientConfig::wait_for_server`]).
     pub fn with_wait_for_server(mut self, wait: Duration) -> Self {
@@ -135,6 +176,18 @@ impl ClientConfig {
         ] {
             if d.is_zero() {
                 return Err(ClientError::invalid(field, "0 s", "must be > 0"));
+            }
+        }
+        if let Some(token) = &self.token {
+            crate::transport::check_token(token)?;
+        }
+        if let Some(tls) = &self.tls {
+            if !tls.ca_file.is_file() {
+                return Err(ClientError::invalid(
+                    "tls.ca_file",
+                    tls.ca_file.display(),
+                    "must be a readable PEM file of the certificate authority to trust",
+                ));
             }
         }
         if self.max_message_bytes < 1024 {

@@ -19,7 +19,8 @@
 //! - `table_file`: table files ([`LocalTables::save`], [`LocalTables::load`]) for nodes with
 //!   no route to a server, and the shared cache directory ([`ClientConfig::with_cache_dir`]).
 //! - [`RetryPolicy`] (`retry`): which failures are retried and the backoff between attempts.
-//! - `transport`: one lazily connected channel per endpoint, failover between them.
+//! - `transport`: one lazily connected channel per endpoint (TLS, bearer token), failover
+//!   between them.
 //! - [`ServingStatus`] (`health`): standard gRPC health checking.
 //!
 //! ```no_run
@@ -57,7 +58,7 @@ pub use client::{Client, FALLBACK_CAUTION};
 pub use compare::{LocalComparison, TableDifference, compare_tables, relative_difference};
 pub use config::{
     ClientConfig, DEFAULT_CALL_TIMEOUT, DEFAULT_CONNECT_TIMEOUT, DEFAULT_ENDPOINT,
-    DEFAULT_KEEPALIVE_INTERVAL, DEFAULT_MAX_MESSAGE_BYTES,
+    DEFAULT_KEEPALIVE_INTERVAL, DEFAULT_MAX_MESSAGE_BYTES, TlsSettings,
 };
 pub use dataset::{DatasetRef, short_hash, stamp_label};
 pub use error::ClientError;

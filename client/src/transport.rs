@@ -1,21 +1,57 @@
-//! Connections: one lazily connected `Channel` per endpoint, cloned freely, and the choice of
-//! endpoint. With several endpoints the client uses one at a time and moves on to the next when
-//! a call fails with UNAVAILABLE or RESOURCE_EXHAUSTED (simple failover, no background probe).
+//! Connections: one lazily connected `Channel` per endpoint (TLS when configured, the bearer
+//! token added to every call), cloned freely, and the choice of endpoint. With several
+//! endpoints the client uses one at a time and moves on to the next when a call finds its
+//! server unreachable, hung, stopping or shedding load (simple failover, no background probe).
 
-use crate::config::ClientConfig;
+use crate::config::{ClientConfig, TlsSettings};
 use crate::error::ClientError;
 use std::sync::atomic::{AtomicUsize, Ordering};
-use tonic::transport::{Channel, Endpoint};
+use tonic::metadata::{Ascii, MetadataValue};
+use tonic::service::Interceptor;
+use tonic::service::interceptor::InterceptedService;
+use tonic::transport::{Certificate, Channel, ClientTlsConfig, Endpoint};
+
+/// A channel that adds the caller's credentials to every request.
+pub(crate) type Connection = InterceptedService<Channel, Credentials>;
+
+/// The `authorization` header every request carries (nothing without a token).
+#[derive(Debug, Clone, Default)]
+pub(crate) struct Credentials(Option<MetadataValue<Ascii>>);
+
+impl Interceptor for Credentials {
+    fn call(&mut self, mut request: tonic::Request<()>) -> Result<tonic::Request<()>, tonic::Status> {
+        if let Some(value) = &self.0 {
+            request.metadata_mut().insert("authorization", value.clone());
+        }
+        Ok(request)
+    }
+}
+
+/// Checks that a token can travel in a header (printable ASCII, no spaces), without
+/// echoing it: the message names its length only.
+pub(crate) fn check_token(token: &str) -> Result<MetadataValue<Ascii>, ClientError> {
+    let bad =
+        |why: &str| ClientError::invalid("token", format!("({} characters, not shown)", token.len()), why);
+    if token.is_empty() {
+        return Err(bad("must not be empty"));
+    }
+    if !token.bytes().all(|b| b.is_ascii_graphic()) {
+        return Err(bad("must be printable ASCII without spaces"));
+    }
+    format!("Bearer {token}")
+        .parse()
+        .map_err(|_| bad("must be printable ASCII without spaces"))
+}
 
 /// The endpoints of one client and which one is in use.
 #[derive(Debug)]
 pub(crate) struct Pool {
-    endpoints: Vec<(String, Channel)>,
+    endpoints: Vec<(String, Connection)>,
     current: AtomicUsize,
 }
 
-/// "host:port" gets "http://"; TLS schemes are refused (not built in).
-pub(crate) fn normalise_address(address: &str) -> Result<String, ClientError> {
+/// "host:port" gets "http://" (or "https://" when `tls` is on); the scheme must match `tls`.
+pub(crate) fn normalise_address(address: &str, tls: bool) -> Result<String, ClientError> {
     let a = address.trim();
     let bad = |allowed: &str| ClientError::invalid("server", format!("{address:?}"), allowed);
     if a.is_empty() {
@@ -23,15 +59,42 @@ pub(crate) fn normalise_address(address: &str) -> Result<String, ClientError> {
     }
     let full = if a.contains("://") {
         a.to_string()
+    } else if tls {
+        format!("https://{a}")
     } else {
         format!("http://{a}")
     };
-    if !full.starts_with("http://") {
-        return Err(bad(
-            "must use http:// (plain HTTP/2 inside the cluster; TLS is not built into this client)",
+    match (full.starts_with("https://"), full.starts_with("http://"), tls) {
+        (true, _, true) | (false, true, false) => Ok(full),
+        (true, _, false) => Err(bad(
+            "https:// needs TLS settings: the certificate authority to trust (tls.ca_file, --tls-ca-file)",
+        )),
+        (false, true, true) => Err(bad("must use https:// when TLS is configured")),
+        _ => Err(bad("must use http:// (or https:// with TLS settings)")),
+    }
+}
+
+/// The TLS client settings from `tls` (the CA file is read here).
+fn client_tls(tls: &TlsSettings) -> Result<ClientTlsConfig, ClientError> {
+    let pem = std::fs::read(&tls.ca_file).map_err(|e| {
+        ClientError::invalid(
+            "tls.ca_file",
+            tls.ca_file.display(),
+            format!("cannot be read ({e}); must be a PEM file of the certificate authority to trust"),
+        )
+    })?;
+    if !String::from_utf8_lossy(&pem).contains("-----BEGIN CERTIFICATE-----") {
+        return Err(ClientError::invalid(
+            "tls.ca_file",
+            tls.ca_file.display(),
+            "holds no PEM certificate (-----BEGIN CERTIFICATE-----)",
         ));
     }
-    Ok(full)
+    let mut config = ClientTlsConfig::new().ca_certificate(Certificate::from_pem(pem));
+    if let Some(name) = &tls.server_name {
+        config = config.domain_name(name.clone());
+    }
+    Ok(config)
 }
 
 impl Pool {
@@ -39,8 +102,10 @@ impl Pool {
     /// Must run inside a tokio runtime.
     pub(crate) fn new(config: &ClientConfig) -> Result<Self, ClientError> {
         let mut endpoints = Vec::with_capacity(config.endpoints.len());
+        let credentials = Credentials(config.token.as_deref().map(check_token).transpose()?);
+        let tls = config.tls.as_ref().map(client_tls).transpose()?;
         for address in &config.endpoints {
-            let address = normalise_address(address)?;
+            let address = normalise_address(address, tls.is_some())?;
             let transport = |e: &dyn std::fmt::Display| ClientError::Transport {
                 endpoint: address.clone(),
                 message: e.to_string(),
@@ -49,13 +114,17 @@ impl Pool {
                 .map_err(|e| transport(&e))?
                 .connect_timeout(config.connect_timeout)
                 .tcp_nodelay(true);
+            if let Some(tls) = &tls {
+                endpoint = endpoint.tls_config(tls.clone()).map_err(|e| transport(&e))?;
+            }
             if let Some(interval) = config.keepalive_interval {
                 endpoint = endpoint
                     .http2_keep_alive_interval(interval)
                     .keep_alive_timeout(config.connect_timeout)
                     .keep_alive_while_idle(true);
             }
-            endpoints.push((address, endpoint.connect_lazy()));
+            let connection = InterceptedService::new(endpoint.connect_lazy(), credentials.clone());
+            endpoints.push((address, connection));
         }
         let start = if config.spread_start && endpoints.len() > 1 {
             rand::random_range(0..endpoints.len())
@@ -69,7 +138,7 @@ impl Pool {
     }
 
     /// The endpoint in use: its position, address and channel.
-    pub(crate) fn current(&self) -> (usize, &str, Channel) {
+    pub(crate) fn current(&self) -> (usize, &str, Connection) {
         let i = self.current.load(Ordering::Relaxed) % self.endpoints.len();
         let (address, channel) = &self.endpoints[i];
         (i, address, channel.clone())
@@ -84,7 +153,7 @@ impl Pool {
     }
 
     /// Every endpoint's address and channel.
-    pub(crate) fn all(&self) -> impl Iterator<Item = (&str, Channel)> {
+    pub(crate) fn all(&self) -> impl Iterator<Item = (&str, Connection)> {
         self.endpoints.iter().map(|(a, c)| (a.as_str(), c.clone()))
     }
 }
@@ -94,15 +163,32 @@ mod tests {
     use super::*;
 
     #[test]
-    fn addresses_are_normalised_and_tls_is_refused() {
+    fn addresses_get_the_scheme_tls_implies() {
         assert_eq!(
-            normalise_address("127.0.0.1:50051").unwrap(),
+            normalise_address("127.0.0.1:50051", false).unwrap(),
             "http://127.0.0.1:50051"
         );
-        assert_eq!(normalise_address("http://h:1").unwrap(), "http://h:1");
-        let e = normalise_address("https://h:1").unwrap_err().to_string();
-        assert!(e.starts_with("server = \"https://h:1\": must use http://"), "{e}");
-        assert!(normalise_address(" ").is_err());
+        assert_eq!(normalise_address("h:1", true).unwrap(), "https://h:1");
+        assert_eq!(normalise_address("http://h:1", false).unwrap(), "http://h:1");
+        let e = normalise_address("https://h:1", false).unwrap_err().to_string();
+        assert!(
+            e.starts_with("server = \"https://h:1\": https:// needs TLS settings"),
+            "{e}"
+        );
+        let e = normalise_address("http://h:1", true).unwrap_err().to_string();
+        assert!(e.ends_with("must use https:// when TLS is configured"), "{e}");
+        assert!(normalise_address(" ", false).is_err());
+        assert!(normalise_address("ftp://h:1", false).is_err());
+    }
+
+    #[test]
+    fn tokens_are_checked_without_being_echoed() {
+        assert!(check_token("abc-123_XYZ").is_ok());
+        let e = check_token("secret with space").unwrap_err().to_string();
+        assert!(!e.contains("secret"), "{e}");
+        assert!(e.contains("17 characters"), "{e}");
+        assert!(check_token("").is_err());
+        assert!(check_token("tab\there").is_err());
     }
 
     #[tokio::test]

@@ -135,3 +135,52 @@ async fn scope_all_guards_every_call_but_health() {
         .await
         .expect("health needs no token");
 }
+
+#[tokio::test(flavor = "multi_thread", worker_threads = 2)]
+async fn the_client_library_sends_its_token_on_every_call() {
+    use ratewell_client::{Client, ClientConfig, DatasetRef, RateQuery};
+    let data = TempDataDir::new("auth-client");
+    data.add_demo_v2("v2");
+    let config = ratewell_service::config::Config {
+        auth_scope: Scope::All,
+        ..test_config()
+    };
+    let server = server_with(&data, config).await;
+    let base = ClientConfig::new(server.url()).with_dataset(DatasetRef::new("demo").expect("id"));
+    let query = RateQuery::new(MK_III, vec![1e4]);
+
+    let anonymous = Client::new(base.clone()).expect("client");
+    let refused = anonymous.lookup_rates(&query).await.expect_err("no token");
+    assert_eq!(refused.code(), Some(Code::Unauthenticated), "{refused}");
+    assert!(
+        !refused.is_unreachable(),
+        "a refusal is an answer, not a lost server"
+    );
+
+    let wrong = Client::new(base.clone().with_token("not-the-token")).expect("client");
+    let refused = wrong.lookup_rates(&query).await.expect_err("wrong token");
+    assert_eq!(refused.code(), Some(Code::Unauthenticated), "{refused}");
+
+    let client = Client::new(base.with_token(TEST_TOKEN)).expect("client");
+    let answer = client.lookup_rates(&query).await.expect("the right token");
+    assert_eq!(answer.temperature_count, 1);
+    client
+        .fetch_tables(MK_III, None)
+        .await
+        .expect("tables with the token");
+    // Admin too: a reload of a folder of the data folder.
+    let loaded = client.load_dataset("v2").await.expect("a reload with the token");
+    assert!(loaded.stamp.is_some());
+    let refused = anonymous.load_dataset("v2").await.expect_err("no token");
+    assert_eq!(refused.code(), Some(Code::Unauthenticated), "{refused}");
+
+    // A token that cannot travel in a header is refused before anything is sent, unechoed.
+    let e = ClientConfig::new(server.url())
+        .with_token("two words")
+        .validate()
+        .expect_err("a space");
+    assert!(
+        e.to_string().starts_with("token = (9 characters, not shown)"),
+        "{e}"
+    );
+}

@@ -98,3 +98,60 @@ async fn a_missing_key_file_stops_the_start_naming_it() {
     };
     assert!(error.contains("no-such-key.pem"), "{error}");
 }
+
+#[tokio::test(flavor = "multi_thread", worker_threads = 2)]
+async fn the_client_library_speaks_tls_trusting_a_ca_file() {
+    use ratewell_client::{Client, ClientConfig, DatasetRef, RateQuery, TlsSettings};
+    let cert = TestCert::new("client");
+    let ca = cert.cert_pem.clone();
+    let server = TestServer::try_start_via(cert.config(), move |addr| tls_channel(addr, &ca))
+        .await
+        .expect("a TLS server starts");
+    let demo = DatasetRef::new("demo").expect("id");
+    let query = RateQuery::new(MK_III, vec![1e4]);
+    let address = format!("localhost:{}", server.addr().port());
+
+    // "host:port" with TLS settings becomes https://; the certificate names "localhost".
+    let client = Client::new(
+        ClientConfig::new(address.clone())
+            .with_dataset(demo.clone())
+            .with_tls(TlsSettings::new(cert.dir.join("cert.pem"))),
+    )
+    .expect("client");
+    let answer = client.lookup_rates(&query).await.expect("a lookup over TLS");
+    assert_eq!(answer.temperature_count, 1);
+
+    // Trusting another certificate: no answer, and the client says which endpoint failed.
+    let other = TestCert::new("client-other");
+    let mut wrong_ca = ClientConfig::new(address.clone())
+        .with_dataset(demo.clone())
+        .with_tls(TlsSettings::new(other.dir.join("cert.pem")));
+    wrong_ca.retry.max_attempts = 1;
+    let error = Client::new(wrong_ca)
+        .expect("client")
+        .lookup_rates(&query)
+        .await
+        .expect_err("an untrusted certificate");
+    assert!(error.to_string().contains(&address), "{error}");
+
+    // Plain HTTP/2 against the TLS server gets nothing either.
+    let mut plain = ClientConfig::new(format!("http://{address}")).with_dataset(demo.clone());
+    plain.retry.max_attempts = 1;
+    assert!(
+        Client::new(plain)
+            .expect("client")
+            .lookup_rates(&query)
+            .await
+            .is_err()
+    );
+
+    // https:// without TLS settings, and a CA file that is not there, are refused up front.
+    let e = Client::new(ClientConfig::new(format!("https://{address}")).with_dataset(demo.clone()))
+        .expect_err("https without a CA");
+    assert!(e.to_string().contains("https:// needs TLS settings"), "{e}");
+    let e = ClientConfig::new(address)
+        .with_tls(TlsSettings::new(cert.dir.join("missing.pem")))
+        .validate()
+        .expect_err("no CA file");
+    assert!(e.to_string().starts_with("tls.ca_file = "), "{e}");
+}
