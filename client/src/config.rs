@@ -148,6 +148,22 @@ impl ClientConfig {
         self
     }
 
+    /// Sends the token held in `path` (its first line that is neither empty nor a `#` comment,
+    /// trimmed), so the token stays out of command lines and environment listings.
+    pub fn with_token_file(self, path: impl AsRef<std::path::Path>) -> Result<Self, ClientError> {
+        let path = path.as_ref();
+        let text = std::fs::read_to_string(path).map_err(|e| {
+            ClientError::invalid("token_file", path.display(), format!("cannot be read: {e}"))
+        })?;
+        let token = text
+            .lines()
+            .map(str::trim)
+            .find(|l| !l.is_empty() && !l.starts_with('#'))
+            .ok_or_else(|| ClientError::invalid("token_file", path.display(), "holds no token line"))?;
+        crate::transport::check_token(token)?;
+        Ok(self.with_token(token))
+    }
+
     /// Connects with TLS, trusting the certificate authority in `tls.ca_file`.
     pub fn with_tls(mut self, tls: TlsSettings) -> Self {
         self.tls = Some(tls);
@@ -244,6 +260,23 @@ mod tests {
             c.validate().unwrap_err().to_string(),
             "call_timeout = 0 s: must be > 0"
         );
+        // A token file: comments and blank lines skipped; an empty file refused by name.
+        let dir = std::env::temp_dir().join(format!("ratewell-client-token-{}", std::process::id()));
+        std::fs::create_dir_all(&dir).unwrap();
+        let file = dir.join("token");
+        std::fs::write(&file, "# mine\n\n  tok-123  \n").unwrap();
+        let c = ClientConfig::default().with_token_file(&file).unwrap();
+        assert_eq!(c.token.as_deref(), Some("tok-123"));
+        std::fs::write(&file, "# nothing\n").unwrap();
+        let e = ClientConfig::default()
+            .with_token_file(&file)
+            .unwrap_err()
+            .to_string();
+        assert!(
+            e.starts_with("token_file = ") && e.ends_with("holds no token line"),
+            "{e}"
+        );
+        let _ = std::fs::remove_dir_all(&dir);
         // 64 MiB, the size the server is configured with (the server's default --max-message-bytes).
         assert_eq!(ClientConfig::default().max_message_bytes, 67_108_864);
     }

@@ -48,6 +48,27 @@ pub(crate) struct Cli {
         allow_negative_numbers = true
     )]
     pub(crate) timeout: Duration,
+    /// File holding the bearer token for servers that require one (its first line that is
+    /// not empty or a # comment). The RATEWELL_TOKEN environment variable is used otherwise.
+    #[arg(long, global = true, env = "RATEWELL_TOKEN_FILE", value_name = "PATH")]
+    pub(crate) token_file: Option<std::path::PathBuf>,
+    /// Connect with TLS, trusting the certificate authority in this PEM file (addresses then
+    /// use https://).
+    #[arg(long, global = true, env = "RATEWELL_TLS_CA_FILE", value_name = "PATH")]
+    pub(crate) tls_ca_file: Option<std::path::PathBuf>,
+    /// The name the server certificate carries, when it differs from the address's host.
+    #[arg(long, global = true, value_name = "NAME", requires = "tls_ca_file")]
+    pub(crate) tls_server_name: Option<String>,
+    /// Keep trying for up to this long while no server can be reached (a job started
+    /// before its server, or across a restart), seconds.
+    #[arg(
+        long,
+        global = true,
+        value_parser = parse_seconds,
+        value_name = "SECONDS",
+        allow_negative_numbers = true
+    )]
+    pub(crate) wait_for_server: Option<Duration>,
     #[command(subcommand)]
     pub(crate) command: Command,
 }

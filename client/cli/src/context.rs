@@ -2,7 +2,7 @@
 
 use crate::args::Cli;
 use crate::error::CliError;
-use ratewell_client::{Client, ClientConfig, DatasetRef};
+use ratewell_client::{Client, ClientConfig, DatasetRef, TlsSettings};
 use std::collections::BTreeSet;
 
 /// The client and the global options.
@@ -11,8 +11,6 @@ pub(crate) struct Context {
     pub(crate) client: Client,
     /// JSON output.
     pub(crate) json: bool,
-    /// Time budget of each call.
-    pub(crate) timeout: std::time::Duration,
     dataset: Option<String>,
     version: Option<String>,
     pin_hash: Option<String>,
@@ -29,13 +27,27 @@ impl Context {
             .with_call_timeout(cli.timeout);
         // A long --timeout is not cut short by the default overall retry deadline.
         config.retry.deadline = config.retry.deadline.max(cli.timeout);
+        if let Some(wait) = cli.wait_for_server {
+            config = config.with_wait_for_server(wait);
+        }
+        if let Some(file) = &cli.token_file {
+            config = config
+                .with_token_file(file)
+                .map_err(|e| CliError::argument("--token-file", e))?;
+        } else if let Some(token) = std::env::var("RATEWELL_TOKEN").ok().filter(|t| !t.is_empty()) {
+            config = config.with_token(token);
+        }
+        if let Some(ca) = &cli.tls_ca_file {
+            let mut tls = TlsSettings::new(ca);
+            tls.server_name = cli.tls_server_name.clone();
+            config = config.with_tls(tls);
+        }
         config
             .validate()
-            .map_err(|e| CliError::argument("--server/--timeout", e))?;
+            .map_err(|e| CliError::argument("--server/--timeout/--token-file/--tls-ca-file", e))?;
         Ok(Self {
             client: Client::new(config)?,
             json: cli.json,
-            timeout: cli.timeout,
             dataset: cli.dataset.clone(),
             version: cli.dataset_version.clone(),
             pin_hash: cli.pin_hash.clone(),

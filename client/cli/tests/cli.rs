@@ -104,6 +104,49 @@ fn bad_arguments_exit_2_naming_argument_value_and_range() {
     let out = ratewell(&server.url(), &["rates", "X", "--temperatures", "5e7"]);
     assert_eq!(out.status.code(), Some(1));
     assert!(text(&out.stderr).contains("OutOfRange"), "{}", text(&out.stderr));
+    // Credentials and TLS settings are checked before anything is sent.
+    let out = ratewell(&server.url(), &["--token-file", "/nonexistent/token", "datasets"]);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(
+        text(&out.stderr).starts_with("error: --token-file: token_file = /nonexistent/token: cannot be read"),
+        "{}",
+        text(&out.stderr)
+    );
+    let out = ratewell(
+        &server.url(),
+        &["--tls-ca-file", "/nonexistent/ca.pem", "datasets"],
+    );
+    assert_eq!(out.status.code(), Some(2));
+    assert!(
+        text(&out.stderr).contains("tls.ca_file = /nonexistent/ca.pem"),
+        "{}",
+        text(&out.stderr)
+    );
+}
+
+#[test]
+fn a_token_from_the_environment_is_read_and_never_echoed() {
+    // A token that cannot travel in a header is refused by the tool itself, naming only its
+    // length: proof that it was read. (That the library sends a good one is tested against the
+    // real server in the end-to-end tests.)
+    let server = start_in_background(HASH_A);
+    let out = Command::new(env!("CARGO_BIN_EXE_ratewell"))
+        .args(["--server", &server.url(), "datasets"])
+        .env_remove("RATEWELL_SERVER")
+        .env("RATEWELL_TOKEN", "has a space")
+        .output()
+        .expect("runs");
+    assert_eq!(out.status.code(), Some(2));
+    let err = text(&out.stderr);
+    assert!(err.contains("token = (11 characters, not shown)"), "{err}");
+    assert!(!err.contains("has a space"), "{err}");
+    let ok = Command::new(env!("CARGO_BIN_EXE_ratewell"))
+        .args(["--server", &server.url(), "datasets"])
+        .env_remove("RATEWELL_SERVER")
+        .env("RATEWELL_TOKEN", "fine-token")
+        .output()
+        .expect("runs");
+    assert!(ok.status.success(), "{}", text(&ok.stderr));
 }
 
 #[test]

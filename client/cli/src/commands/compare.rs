@@ -5,7 +5,7 @@ use crate::args::CompareArgs;
 use crate::context::Context;
 use crate::error::CliError;
 use crate::output::{Table, json_text, stamp_json, stamp_line};
-use ratewell_client::{Client, ClientConfig, DatasetRef, LocalComparison, compare_tables, pb, stamp_label};
+use ratewell_client::{Client, DatasetRef, LocalComparison, compare_tables, pb, stamp_label};
 use serde_json::json;
 use std::collections::BTreeSet;
 
@@ -84,7 +84,8 @@ fn species_of(sets: &[pb::DatasetSummary], d: &DatasetRef) -> BTreeSet<String> {
 }
 
 async fn on_two_servers(ctx: &Context, a: &CompareArgs, url: &str) -> Result<Report, CliError> {
-    let config = ClientConfig::new(url).with_call_timeout(ctx.timeout);
+    // The same credentials, TLS and waiting as the first server.
+    let config = ctx.client.config().clone().with_endpoints(vec![url.to_string()]);
     config
         .validate()
         .map_err(|e| CliError::argument("--second-server", e))?;
