@@ -19,6 +19,8 @@
 //! - `table_file`: table files ([`LocalTables::save`], [`LocalTables::load`]) for nodes with
 //!   no route to a server, and the shared cache directory ([`ClientConfig::with_cache_dir`]).
 //! - [`RetryPolicy`] (`retry`): which failures are retried and the backoff between attempts.
+//! - [`apply_options`] (`options`): settings as `key=value` text, for the C ABI and the
+//!   languages over it.
 //! - `transport`: one lazily connected channel per endpoint (TLS, bearer token), failover
 //!   between them.
 //! - [`ServingStatus`] (`health`): standard gRPC health checking.
@@ -46,6 +48,7 @@ mod dataset;
 mod error;
 mod health;
 mod local;
+mod options;
 mod populations;
 mod rates;
 mod retry;
@@ -64,6 +67,7 @@ pub use dataset::{DatasetRef, short_hash, stamp_label};
 pub use error::ClientError;
 pub use health::{EndpointHealth, ServingStatus};
 pub use local::LocalTables;
+pub use options::{OPTION_KEYS, apply_options};
 pub use populations::PopulationQuery;
 pub use rates::{EvalOptions, RateBuffers, RateLookup, RateQuery};
 pub use retry::{RetryPolicy, is_retryable, is_transport_failure};

@@ -35,11 +35,11 @@ module ratewell
        ratewell_free
 
   interface
-     function c_open(endpoints, dataset_id, version, pinned_hash, budget, cache_dir, out) &
-          bind(C, name="ratewell_open") result(status)
+     function c_open(endpoints, dataset_id, version, pinned_hash, budget, cache_dir, options, out) &
+          bind(C, name="ratewell_open_with_options") result(status)
        import :: c_char, c_double, c_ptr, c_int32_t
        character(kind=c_char), dimension(*), intent(in) :: endpoints, dataset_id, version, &
-            pinned_hash, cache_dir
+            pinned_hash, cache_dir, options
        real(c_double), value :: budget
        type(c_ptr), intent(out) :: out
        integer(c_int32_t) :: status
@@ -159,27 +159,30 @@ contains
   end subroutine report
 
   !> Opens a connection: `endpoints` comma-separated; optional dataset `version`,
-  !> `pinned_hash`, `time_budget_s` (0: defaults) and shared `cache_dir`.
+  !> `pinned_hash`, `time_budget_s` (0: defaults), shared `cache_dir`, and `options`
+  !> ("key=value;..." settings: token_file, tls_ca_file, wait_for_server_s, ...; see ratewell.h).
   subroutine ratewell_open(connection, endpoints, dataset_id, version, pinned_hash, time_budget_s, &
-       cache_dir, stat, errmsg)
+       cache_dir, options, stat, errmsg)
     type(ratewell_connection), intent(out) :: connection
     character(len=*), intent(in) :: endpoints, dataset_id
-    character(len=*), intent(in), optional :: version, pinned_hash, cache_dir
+    character(len=*), intent(in), optional :: version, pinned_hash, cache_dir, options
     real(c_double), intent(in), optional :: time_budget_s
     integer, intent(out), optional :: stat
     character(len=*), intent(inout), optional :: errmsg
-    character(len=:), allocatable :: v, p, d
+    character(len=:), allocatable :: v, p, d, o
     real(c_double) :: budget
     v = ''
     p = ''
     d = ''
+    o = ''
     budget = 0.0_c_double
     if (present(version)) v = version
     if (present(pinned_hash)) p = pinned_hash
     if (present(cache_dir)) d = cache_dir
+    if (present(options)) o = options
     if (present(time_budget_s)) budget = time_budget_s
     call report(c_open(c_string(endpoints), c_string(dataset_id), c_string(v), c_string(p), budget, &
-         c_string(d), connection%handle), 'ratewell_open', stat, errmsg)
+         c_string(d), c_string(o), connection%handle), 'ratewell_open', stat, errmsg)
   end subroutine ratewell_open
 
   !> Closes a connection (fetched table sets stay valid).

@@ -163,7 +163,8 @@ extern "C" {
    defaults (10 s per attempt, retries within 30 s).
  - `cache_dir`: a folder of table files shared by the processes of a node, or NULL/"".
 
- On success `*out` holds a handle to free with `ratewell_close`.
+ On success `*out` holds a handle to free with `ratewell_close`. Equivalent to
+ `ratewell_open_with_options` with no options.
 
  # Safety
  String arguments are NULL or NUL-terminated; `out` points to writable memory.
@@ -175,6 +176,28 @@ int32_t ratewell_open(const char *endpoints,
                       double time_budget_s,
                       const char *cache_dir,
                       struct RatewellConnection **out);
+
+/*
+ `ratewell_open` with further settings in `options`: NULL/"" or `key=value` pairs separated
+ by `;` or new lines. Keys: `token_file` (a file holding the bearer token for servers that
+ require one), `tls_ca_file` (connect with TLS trusting this PEM certificate authority;
+ addresses become https://), `tls_server_name` (the name on the server certificate when it
+ differs from the host), `wait_for_server_s` (keep trying this long while no server can be
+ reached: jobs started before their server), `call_timeout_s` (per attempt; a hung server
+ is left for the next endpoint after this), `fall_back_to_fetched_tables` (`1`: answer from
+ tables already fetched when no server answers). A bad pair is refused naming the key.
+
+ # Safety
+ String arguments are NULL or NUL-terminated; `out` points to writable memory.
+ */
+int32_t ratewell_open_with_options(const char *endpoints,
+                                   const char *dataset_id,
+                                   const char *version,
+                                   const char *pinned_hash,
+                                   double time_budget_s,
+                                   const char *cache_dir,
+                                   const char *options,
+                                   struct RatewellConnection **out);
 
 /*
  Closes a connection (NULL: nothing to do). Table sets fetched through it stay valid.

@@ -123,11 +123,16 @@ class Connection {
   public:
     /// `endpoints` comma-separated; empty `version`, `pinned_hash`, `cache_dir` mean none;
     /// `time_budget_s` 0 means the library's defaults.
+    /// `options`: "" or `key=value` pairs separated by ';' (token_file, tls_ca_file,
+    /// tls_server_name, wait_for_server_s, call_timeout_s, fall_back_to_fetched_tables; see
+    /// ratewell_open_with_options in ratewell.h).
     Connection(const std::string &endpoints, const std::string &dataset_id, const std::string &version = "",
-               const std::string &pinned_hash = "", double time_budget_s = 0.0, const std::string &cache_dir = "") {
-        detail::check(ratewell_open(endpoints.c_str(), dataset_id.c_str(), version.c_str(), pinned_hash.c_str(),
-                                    time_budget_s, cache_dir.c_str(), &raw_),
-                      "ratewell_open");
+               const std::string &pinned_hash = "", double time_budget_s = 0.0, const std::string &cache_dir = "",
+               const std::string &options = "") {
+        detail::check(ratewell_open_with_options(endpoints.c_str(), dataset_id.c_str(), version.c_str(),
+                                                 pinned_hash.c_str(), time_budget_s, cache_dir.c_str(),
+                                                 options.c_str(), &raw_),
+                      "ratewell_open_with_options");
     }
     Connection(Connection &&other) noexcept : raw_(std::exchange(other.raw_, nullptr)) {}
     Connection &operator=(Connection &&other) noexcept {

@@ -25,6 +25,7 @@ fn open(
     pinned_hash: Option<&str>,
     time_budget_s: f64,
     cache_dir: Option<&str>,
+    options: Option<&str>,
 ) -> Result<RatewellConnection, Failure> {
     let list: Vec<String> = endpoints
         .split(',')
@@ -65,6 +66,9 @@ fn open(
     if let Some(dir) = cache_dir {
         config = config.with_cache_dir(dir);
     }
+    if let Some(text) = options {
+        config = ratewell_client::apply_options(config, text)?;
+    }
     let runtime = tokio::runtime::Builder::new_current_thread()
         .enable_all()
         .build()
@@ -89,7 +93,8 @@ fn open(
 ///   defaults (10 s per attempt, retries within 30 s).
 /// - `cache_dir`: a folder of table files shared by the processes of a node, or NULL/"".
 ///
-/// On success `*out` holds a handle to free with `ratewell_close`.
+/// On success `*out` holds a handle to free with `ratewell_close`. Equivalent to
+/// `ratewell_open_with_options` with no options.
 ///
 /// # Safety
 /// String arguments are NULL or NUL-terminated; `out` points to writable memory.
@@ -103,21 +108,60 @@ pub unsafe extern "C" fn ratewell_open(
     cache_dir: *const c_char,
     out: *mut *mut RatewellConnection,
 ) -> i32 {
+    // SAFETY: the caller's promises, passed on unchanged; no options.
+    unsafe {
+        ratewell_open_with_options(
+            endpoints,
+            dataset_id,
+            version,
+            pinned_hash,
+            time_budget_s,
+            cache_dir,
+            std::ptr::null(),
+            out,
+        )
+    }
+}
+
+/// `ratewell_open` with further settings in `options`: NULL/"" or `key=value` pairs separated
+/// by `;` or new lines. Keys: `token_file` (a file holding the bearer token for servers that
+/// require one), `tls_ca_file` (connect with TLS trusting this PEM certificate authority;
+/// addresses become https://), `tls_server_name` (the name on the server certificate when it
+/// differs from the host), `wait_for_server_s` (keep trying this long while no server can be
+/// reached: jobs started before their server), `call_timeout_s` (per attempt; a hung server
+/// is left for the next endpoint after this), `fall_back_to_fetched_tables` (`1`: answer from
+/// tables already fetched when no server answers). A bad pair is refused naming the key.
+///
+/// # Safety
+/// String arguments are NULL or NUL-terminated; `out` points to writable memory.
+#[unsafe(no_mangle)]
+#[allow(clippy::too_many_arguments)]
+pub unsafe extern "C" fn ratewell_open_with_options(
+    endpoints: *const c_char,
+    dataset_id: *const c_char,
+    version: *const c_char,
+    pinned_hash: *const c_char,
+    time_budget_s: f64,
+    cache_dir: *const c_char,
+    options: *const c_char,
+    out: *mut *mut RatewellConnection,
+) -> i32 {
     guard(|| {
         if out.is_null() {
             return Err(Failure::null("out"));
         }
         // SAFETY: the caller's promises on every string argument.
-        let (endpoints, id, version, pin, dir) = unsafe {
+        let (endpoints, id, version, pin, dir, options) = unsafe {
             (
                 required("endpoints", endpoints)?,
                 required("dataset_id", dataset_id)?,
                 optional("version", version)?,
                 optional("pinned_hash", pinned_hash)?,
                 optional("cache_dir", cache_dir)?,
+                optional("options", options)?,
             )
         };
-        let connection = open(endpoints, id, version, pin, time_budget_s, dir)?;
+        let connection = open(endpoints, id, version, pin, time_budget_s, dir, options)?;
         // SAFETY: `out` is non-null and writable.
         unsafe { *out = Box::into_raw(Box::new(connection)) };
         Ok(())

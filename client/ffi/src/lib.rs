@@ -23,7 +23,9 @@ mod status;
 mod strings;
 mod tables;
 
-pub use connection::{RatewellConnection, ratewell_close, ratewell_fetch_tables, ratewell_open};
+pub use connection::{
+    RatewellConnection, ratewell_close, ratewell_fetch_tables, ratewell_open, ratewell_open_with_options,
+};
 pub use populations::{
     RatewellPopulations, ratewell_populations_flags, ratewell_populations_fractions,
     ratewell_populations_free, ratewell_populations_level_count, ratewell_populations_point_count,

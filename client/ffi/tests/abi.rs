@@ -396,3 +396,76 @@ fn table_files_round_trip_and_damaged_ones_are_refused_through_the_abi() {
     assert!(out.is_null());
     std::fs::remove_dir_all(&dir).unwrap();
 }
+
+#[tokio::test(flavor = "multi_thread", worker_threads = 2)]
+async fn options_carry_a_token_to_a_guarded_server_and_bad_keys_are_named() {
+    use ratewell_e2e::server::{TEST_TOKEN, test_config};
+    let config = ratewell_service::config::Config {
+        auth_scope: ratewell_service::auth::Scope::All,
+        ..test_config()
+    };
+    let server = TestServer::start_with(config).await;
+    let url = server.url();
+    tokio::task::spawn_blocking(move || {
+        let dir = std::env::temp_dir().join(format!("ratewell-abi-token-{}", std::process::id()));
+        std::fs::create_dir_all(&dir).unwrap();
+        let token_file = dir.join("token");
+        std::fs::write(&token_file, format!("{TEST_TOKEN}\n")).unwrap();
+        let open = |options: &str| {
+            let (url, id, opts) = (c(&url), c("demo"), c(options));
+            let mut connection = null_mut();
+            // SAFETY: valid strings and out pointer.
+            let s = unsafe {
+                ratewell_open_with_options(
+                    url.as_ptr(),
+                    id.as_ptr(),
+                    null(),
+                    null(),
+                    20.0,
+                    null(),
+                    opts.as_ptr(),
+                    &mut connection,
+                )
+            };
+            (s, connection)
+        };
+        let fetch = |connection: *mut RatewellConnection| {
+            let species = c("Mk III");
+            let mut tables = null_mut();
+            // SAFETY: live connection, valid string and out pointer.
+            let s = unsafe { ratewell_fetch_tables(connection, species.as_ptr(), &mut tables) };
+            // SAFETY: NULL or a handle from the library, freed once.
+            unsafe { ratewell_tables_free(tables) };
+            s
+        };
+        // No token: the server refuses, and the message says why.
+        let (s, anonymous) = open("");
+        assert_eq!(s, RATEWELL_OK, "{}", last_error());
+        assert_eq!(fetch(anonymous), RATEWELL_SERVER_ERROR, "{}", last_error());
+        assert!(last_error().contains("bearer token"), "{}", last_error());
+        // The token from a file, among other settings.
+        let (s, authed) = open(&format!(
+            "token_file={}; wait_for_server_s=5; fall_back_to_fetched_tables=1",
+            token_file.display()
+        ));
+        assert_eq!(s, RATEWELL_OK, "{}", last_error());
+        assert_eq!(fetch(authed), RATEWELL_OK, "{}", last_error());
+        // A bad key is named before anything is sent.
+        let (s, none) = open("colour=blue");
+        assert_eq!(s, RATEWELL_INVALID_ARGUMENT);
+        assert!(none.is_null());
+        assert!(
+            last_error().starts_with("options = \"colour\": unknown key"),
+            "{}",
+            last_error()
+        );
+        // SAFETY: handles from the library, closed once.
+        unsafe {
+            ratewell_close(anonymous);
+            ratewell_close(authed);
+        }
+        let _ = std::fs::remove_dir_all(&dir);
+    })
+    .await
+    .unwrap();
+}

@@ -11,7 +11,7 @@ use pyo3::prelude::*;
 use pyo3::types::PyDict;
 use ratewell_client::{
     Client, ClientConfig, ClientError, DatasetRef, Direction, EvalOptions, LocalTables, OutsidePolicy,
-    PopulationQuery, RateUnit, TemperatureUnit, Transition, pb,
+    PopulationQuery, RateUnit, TemperatureUnit, Transition, apply_options, pb,
 };
 use std::path::Path;
 use std::sync::Arc;
@@ -90,9 +90,15 @@ struct Connection {
 impl Connection {
     /// Opens a connection (lazily). `endpoints`: one address or a list (failover);
     /// `version`, `pinned_hash`, `cache_dir` optional; `time_budget_s`: the most one call may
-    /// take over all its retries (None: the library's defaults).
+    /// take over all its retries (None: the library's defaults). `token_file`: a file holding
+    /// the bearer token for servers that require one; `tls_ca_file`: connect with TLS trusting
+    /// this PEM certificate authority (`tls_server_name` when the certificate names another
+    /// host); `wait_for_server_s`: keep trying this long while no server can be reached;
+    /// `fall_back_to_fetched_tables`: answer lookups from tables already fetched when no
+    /// server answers.
     #[new]
-    #[pyo3(signature = (endpoints, dataset, version=None, pinned_hash=None, time_budget_s=None, cache_dir=None))]
+    #[pyo3(signature = (endpoints, dataset, version=None, pinned_hash=None, time_budget_s=None, cache_dir=None, *, token_file=None, tls_ca_file=None, tls_server_name=None, wait_for_server_s=None, fall_back_to_fetched_tables=false))]
+    #[allow(clippy::too_many_arguments)]
     fn new(
         endpoints: Vec<String>,
         dataset: &str,
@@ -100,6 +106,11 @@ impl Connection {
         pinned_hash: Option<&str>,
         time_budget_s: Option<f64>,
         cache_dir: Option<&str>,
+        token_file: Option<&str>,
+        tls_ca_file: Option<&str>,
+        tls_server_name: Option<&str>,
+        wait_for_server_s: Option<f64>,
+        fall_back_to_fetched_tables: bool,
     ) -> PyResult<Self> {
         if endpoints.is_empty() {
             return Err(PyValueError::new_err(
@@ -130,6 +141,29 @@ impl Connection {
         if let Some(dir) = cache_dir {
             config = config.with_cache_dir(dir);
         }
+        // The same keys and checks as the C ABI's options (one parser in the client library).
+        let mut options = Vec::new();
+        for (key, value) in [
+            ("token_file", token_file),
+            ("tls_ca_file", tls_ca_file),
+            ("tls_server_name", tls_server_name),
+        ] {
+            if let Some(v) = value {
+                if v.contains([';', '\n']) {
+                    return Err(PyValueError::new_err(format!(
+                        "{key} = {v:?}: must not contain ';' or a new line"
+                    )));
+                }
+                options.push(format!("{key}={v}"));
+            }
+        }
+        if let Some(w) = wait_for_server_s {
+            options.push(format!("wait_for_server_s={w}"));
+        }
+        if fall_back_to_fetched_tables {
+            options.push("fall_back_to_fetched_tables=true".into());
+        }
+        config = apply_options(config, &options.join(";")).map_err(to_py)?;
         let runtime = tokio::runtime::Builder::new_current_thread()
             .enable_all()
             .build()

@@ -109,6 +109,24 @@ def test_unknown_names_and_a_wrong_pin_raise_ratewell_errors(tables):
     assert info.value.code == "unavailable"
 
 
+def test_connection_settings_are_checked_naming_the_setting(tmp_path):
+    with pytest.raises(ValueError) as info:
+        ratewell.Connection(SERVER, dataset="demo", token_file=tmp_path / "missing")
+    assert "token_file = " in str(info.value) and "cannot be read" in str(info.value)
+    with pytest.raises(ValueError) as info:
+        ratewell.Connection(SERVER, dataset="demo", tls_server_name="svc")
+    assert "needs tls_ca_file as well" in str(info.value)
+    with pytest.raises(ValueError) as info:
+        ratewell.Connection(SERVER, dataset="demo", wait_for_server_s=-1)
+    assert "wait_for_server_s = -1" in str(info.value)
+    token = tmp_path / "token"
+    token.write_text("# a comment\nnot-checked-by-this-server\n")
+    # The demo server of these checks takes no token; one sent anyway is harmless.
+    conn = ratewell.Connection(SERVER, dataset="demo", token_file=token, wait_for_server_s=5,
+                               fall_back_to_fetched_tables=True, time_budget_s=30)
+    assert conn.fetch_tables(SPECIES).stamp["id"] == "demo"
+
+
 def test_table_files_round_trip_and_damaged_files_are_refused(tables, tmp_path):
     path = tables.save(tmp_path)
     assert path.endswith(".rwtables") and tables.stamp["content_hash"][:16] in path

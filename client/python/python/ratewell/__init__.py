@@ -88,14 +88,25 @@ def load_tables(path):
 
 
 class Connection:
-    """A connection to one or more ratewell servers for one dataset (connects lazily)."""
+    """A connection to one or more ratewell servers for one dataset (connects lazily).
+
+    token_file: a file holding the bearer token for servers that require one.
+    tls_ca_file: connect with TLS trusting this PEM certificate authority (tls_server_name when
+    the certificate names another host). wait_for_server_s: keep trying this long while no
+    server can be reached (jobs started before their server). fall_back_to_fetched_tables:
+    answer lookups from tables already fetched when no server answers."""
 
     def __init__(self, endpoints, dataset, version=None, pinned_hash=None, time_budget_s=None,
-                 cache_dir=None):
+                 cache_dir=None, *, token_file=None, tls_ca_file=None, tls_server_name=None,
+                 wait_for_server_s=None, fall_back_to_fetched_tables=False):
         if isinstance(endpoints, str):
             endpoints = [endpoints]
+        text = lambda p: None if p is None else str(p)
         self._native = _Connection(list(endpoints), dataset, version, pinned_hash, time_budget_s,
-                                   None if cache_dir is None else str(cache_dir))
+                                   text(cache_dir), token_file=text(token_file),
+                                   tls_ca_file=text(tls_ca_file), tls_server_name=tls_server_name,
+                                   wait_for_server_s=wait_for_server_s,
+                                   fall_back_to_fetched_tables=bool(fall_back_to_fetched_tables))
 
     def fetch_tables(self, species):
         """Every rate table of `species` (once per process, or from the cache folder)."""
