@@ -8,10 +8,12 @@
 //! - [`solve`]: population solves over lists or grids of (Te, ne), in parallel.
 //! - [`compare`]: consistency comparison of two datasets.
 //! - [`admit`]: dataset and request limits, checked before the work they guard.
+//! - [`cancel`]: the stop flag long computations read between pieces of work.
 //! - [`units`]: request and answer units.
 //! - [`error`]: the engine's error enum.
 
 pub mod admit;
+pub mod cancel;
 pub mod compare;
 pub mod error;
 pub mod folders;
@@ -20,9 +22,10 @@ pub mod registry;
 pub mod solve;
 pub mod units;
 
+pub use cancel::Cancel;
 pub use error::EngineError;
 pub use folders::{FolderOutcome, FolderRecord};
-pub use registry::{LoadedDataset, Registry, Selector, SolveInputs, Stamp};
+pub use registry::{LoadedDataset, Registry, Selector, Snapshots, SolveInputs, Stamp};
 
 use crate::dataset::{self, Dataset};
 use crate::limits::Limits;
@@ -30,7 +33,10 @@ use crate::physics::PhysicsError;
 use crate::physics::elementary::log10;
 use crate::physics::emission::line_terms;
 use crate::physics::populations::RadiativeRate;
-use crate::tables::{CacheStats, SpeciesTables, TableCache, TableKey, build_species_tables};
+use crate::tables::{
+    CacheStats, SpeciesTables, TableCache, TableError, TableKey, build_species_tables,
+    build_species_tables_until,
+};
 use ratewell_proto::rule::LogGrid;
 use std::collections::HashMap;
 use std::path::{Path, PathBuf};
@@ -318,6 +324,19 @@ impl Engine {
         species: &str,
         grid: Option<GridSpec>,
     ) -> Result<Arc<SpeciesTables>, EngineError> {
+        self.species_tables_cancellable(loaded, species, grid, &Cancel::default())
+    }
+
+    /// [`Self::species_tables`], checking `cancel` before each table of a build (and while
+    /// waiting for another call's build of the same tables), and stopping with
+    /// [`EngineError::Cancelled`] once it is set. A stopped build leaves nothing in the cache.
+    pub fn species_tables_cancellable(
+        &self,
+        loaded: &LoadedDataset,
+        species: &str,
+        grid: Option<GridSpec>,
+        cancel: &Cancel,
+    ) -> Result<Arc<SpeciesTables>, EngineError> {
         let default = loaded
             .tables
             .get(species)
@@ -338,9 +357,12 @@ impl Engine {
             .dataset
             .species(species)
             .ok_or_else(|| unknown_species_error(loaded, species))?;
-        self.inner
-            .cache
-            .get_or_build(key, || Ok(Arc::new(build_species_tables(data, grid)?)))
+        let build = || match build_species_tables_until(data, grid, &|| cancel.is_cancelled()) {
+            Ok(tables) => Ok(Arc::new(tables)),
+            Err(TableError::Stopped) => Err(EngineError::Cancelled),
+            Err(other) => Err(other.into()),
+        };
+        self.inner.cache.get_or_build(key, build, || cancel.check())
     }
 
     /// Knots of the grid `spec` names (the default grid's when `None`), for limits checked
