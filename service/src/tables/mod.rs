@@ -136,3 +136,28 @@ fn cautions_for(
     }
     cautions
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use std::sync::atomic::{AtomicUsize, Ordering};
+
+    #[test]
+    fn a_build_asked_to_stop_ends_before_its_last_table() {
+        let dataset = crate::dataset::demo_dataset().expect("demo");
+        let species = dataset.species("Mk II").expect("Mk II");
+        let grid = LogGrid::from_range(10.0, 1e9, 20).unwrap();
+        let asked = AtomicUsize::new(0);
+        let stopped =
+            build_species_tables_until(species, grid, &|| asked.fetch_add(1, Ordering::Relaxed) >= 3);
+        assert!(matches!(stopped, Err(TableError::Stopped)), "{stopped:?}");
+        let asked = asked.into_inner();
+        assert!(
+            asked < species.collisions.len(),
+            "asked {asked} times for {} tables: the build went on",
+            species.collisions.len()
+        );
+        let whole = build_species_tables_until(species, grid, &|| false).expect("a build not stopped");
+        assert_eq!(whole.tables.len(), species.collisions.len());
+    }
+}
