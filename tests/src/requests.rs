@@ -95,6 +95,30 @@ pub fn big_solve() -> pb::SolvePopulationsRequest {
     req
 }
 
+/// [`big_solve`] on `axis` x `axis` points (the same ranges, species and answer settings).
+pub fn big_solve_of(axis: usize) -> pb::SolvePopulationsRequest {
+    let mut req = big_solve();
+    req.temperatures = log_spaced(2e3, 2e5, axis);
+    req.densities = log_spaced(1e2, 1e10, axis);
+    req
+}
+
+/// The axis of a [`big_solve_of`] that takes at least about `target` where [`big_solve`] took
+/// `measured`: a solve's time grows with its number of points (one balance solve per point;
+/// common practice, no source).
+pub fn big_solve_axis_for(measured: Duration, target: Duration) -> usize {
+    let base = (BIG_SOLVE_AXIS * BIG_SOLVE_AXIS) as f64;
+    let points = base * target.as_secs_f64() / measured.as_secs_f64().max(1e-3);
+    (points.sqrt().ceil() as usize).max(BIG_SOLVE_AXIS)
+}
+
+/// Generous bytes of the answer to a [`big_solve_of`] with `points` points: the populations and
+/// two critical-density lists of the 34 levels as doubles, one line and the fixed fields, per
+/// point, with room to spare (for a server's `max_message_bytes`, which bounds answers too).
+pub fn big_solve_answer_bytes(points: usize) -> usize {
+    points * (3 * 34 * 8 + 256)
+}
+
 /// The shortest big solve that still leaves room for the tenth-of-the-solve deadlines and
 /// drain periods the tests derive from it.
 const SHORTEST_BIG_SOLVE: Duration = Duration::from_millis(30);
