@@ -9,15 +9,14 @@
 //! probe admitted within the bound means the work stopped, however fast the machine.
 
 use ratewell_e2e::requests::{
-    MK_II, MK_III, assert_status, big_solve_answer_bytes, big_solve_axis_for, big_solve_of, lookup,
-    selector, time_big_solve,
+    Call, MK_II, assert_status, big_solve_answer_bytes, big_solve_axis_for, big_solve_of, in_flight, lookup,
+    probe, selector, time_big_solve,
 };
 use ratewell_e2e::{TempDataDir, TestServer, test_config};
 use ratewell_proto::pb;
 use ratewell_service::config::Config;
 use std::time::{Duration, Instant};
-use tokio::task::JoinHandle;
-use tonic::{Code, Request, Status};
+use tonic::{Code, Request};
 
 /// After the call ended, a probe is admitted within this: the work stopped and its permit is
 /// free. The work stops within one point of a solve or one table of a build per thread
@@ -29,8 +28,6 @@ const FULL_PER_BOUND: u32 = 5;
 
 /// The deadline of the calls cut by their deadline: far shorter than the full work.
 const DEADLINE: Duration = Duration::from_secs(1);
-
-type Call = JoinHandle<Result<(), Status>>;
 
 fn with_deadline<T>(message: T, deadline: Duration) -> Request<T> {
     let mut r = Request::new(message);
@@ -46,52 +43,12 @@ fn one_at_a_time() -> Config {
     }
 }
 
-/// The probe: the smallest lookup, answered inline under the same permit as any engine call.
-async fn probe(server: &TestServer) -> Result<(), Status> {
-    server
-        .rates()
-        .lookup_rates(lookup(MK_III, vec![1e4]))
-        .await
-        .map(|_| ())
-}
-
-/// Starts the call `start` makes and returns once the server is observed computing it (a
-/// probe is shed). A call that was itself shed, because a probe held the permit as it arrived,
-/// is started again.
-async fn in_flight(server: &TestServer, start: impl Fn() -> Call) -> Call {
-    let mut call = start();
-    let began = Instant::now();
-    loop {
-        assert!(
-            began.elapsed() < Duration::from_secs(30),
-            "the call was never observed in flight"
-        );
-        if call.is_finished() {
-            let status = call
-                .await
-                .expect("call task")
-                .expect_err("the call finished before any probe saw it in flight");
-            assert_eq!(status.code(), Code::ResourceExhausted, "{status:?}");
-            call = start();
-            continue;
-        }
-        match probe(server).await {
-            Err(s) if s.code() == Code::ResourceExhausted => {
-                assert!(s.message().contains("server busy"), "{}", s.message());
-                return call;
-            }
-            Err(s) => panic!("probe failed: {s:?}"),
-            // Paces the probes only; the refusal above is the signal.
-            Ok(()) => tokio::time::sleep(Duration::from_millis(5)).await,
-        }
-    }
-}
-
 /// How long from now until a probe is admitted; panics if none is within [`PERMIT_BOUND`].
 async fn until_admitted(server: &TestServer) -> Duration {
     let began = Instant::now();
+    let mut rates = server.rates();
     loop {
-        match probe(server).await {
+        match probe(&mut rates).await {
             Ok(()) => return began.elapsed(),
             Err(s) if s.code() == Code::ResourceExhausted => {
                 assert!(
@@ -140,7 +97,7 @@ fn spawn_solve(server: &TestServer, axis: usize, deadline: Option<Duration>) -> 
 async fn a_solve_cut_by_its_deadline_frees_its_permit() {
     let axis = long_solve_axis().await;
     let server = solve_server(axis).await;
-    let call = in_flight(&server, || spawn_solve(&server, axis, Some(DEADLINE))).await;
+    let call = in_flight(server.rates(), || spawn_solve(&server, axis, Some(DEADLINE))).await;
     let status = call.await.expect("call task").expect_err("cut by its deadline");
     assert_status(&status, Code::DeadlineExceeded, &["deadline"]);
     let freed = until_admitted(&server).await;
@@ -152,7 +109,7 @@ async fn a_solve_whose_client_went_away_frees_its_permit() {
     let axis = long_solve_axis().await;
     let server = solve_server(axis).await;
     // The call future is dropped mid-solve: the client resets the call's stream.
-    let call = in_flight(&server, || spawn_solve(&server, axis, None)).await;
+    let call = in_flight(server.rates(), || spawn_solve(&server, axis, None)).await;
     call.abort();
     assert!(call.await.expect_err("aborted").is_cancelled());
     until_admitted(&server).await;
@@ -163,14 +120,9 @@ async fn a_solve_whose_client_went_away_frees_its_permit() {
             .expect("url")
             .connect_lazy();
         let mut client = pb::populations_client::PopulationsClient::new(channel);
-        tokio::spawn(async move {
-            client
-                .solve_populations(big_solve_of(axis))
-                .await
-                .map(|_| ())
-        })
+        tokio::spawn(async move { client.solve_populations(big_solve_of(axis)).await.map(|_| ()) })
     };
-    let call = in_flight(&server, connection).await;
+    let call = in_flight(server.rates(), connection).await;
     call.abort();
     assert!(call.await.expect_err("aborted").is_cancelled());
     until_admitted(&server).await;
@@ -244,7 +196,7 @@ async fn a_lookup_on_a_new_grid_cut_by_its_deadline_frees_its_permit_and_caches_
                 .map(|_| ())
         })
     };
-    let call = in_flight(&server, start).await;
+    let call = in_flight(server.rates(), start).await;
     let status = call.await.expect("call task").expect_err("cut by its deadline");
     assert_status(&status, Code::DeadlineExceeded, &["deadline"]);
     until_admitted(&server).await;
@@ -261,7 +213,7 @@ async fn a_lookup_on_a_new_grid_cut_by_its_deadline_frees_its_permit_and_caches_
         let req = lookup_on(fine_grid(1.5));
         tokio::spawn(async move { client.lookup_rates(req).await.map(|_| ()) })
     };
-    let call = in_flight(&server, start).await;
+    let call = in_flight(server.rates(), start).await;
     call.abort();
     until_admitted(&server).await;
     assert_eq!(engine.cache_stats().entries, 1);
@@ -306,7 +258,7 @@ async fn a_comparison_cut_by_its_deadline_frees_its_permit() {
                 .map(|_| ())
         })
     };
-    let call = in_flight(&server, start).await;
+    let call = in_flight(server.rates(), start).await;
     let status = call.await.expect("call task").expect_err("cut by its deadline");
     assert_status(&status, Code::DeadlineExceeded, &["deadline"]);
     let freed = until_admitted(&server).await;
