@@ -294,7 +294,7 @@ pub async fn serve(
         None => None,
     };
     let (stop_tx, stop_rx) = tokio::sync::oneshot::channel::<()>();
-    let server = tokio::spawn(router.serve_with_incoming_shutdown(incoming, async {
+    let mut server = tokio::spawn(router.serve_with_incoming_shutdown(incoming, async {
         let _ = stop_rx.await;
     }));
     shutdown.await;
@@ -319,20 +319,21 @@ pub async fn serve(
     // Calls still in flight a margin before the deadline are cut (UNAVAILABLE) so that their
     // statuses are written and the connections close before the server is aborted.
     let cut_at = deadline - cut_margin(config.shutdown_grace);
-    let mut server = server;
     let stopped = match tokio::time::timeout_at(cut_at, &mut server).await {
         Ok(joined) => Some(joined),
         Err(_) => {
             tracing::warn!(
                 grace_s = config.shutdown_grace.as_secs_f64(),
                 in_flight = state.in_flight(),
-                "in-flight calls did not finish within the grace period; cutting them with UNAVAILABLE"
+                "in-flight calls still running at the end of the grace period; cutting them with UNAVAILABLE"
             );
             state.cut_in_flight();
             match tokio::time::timeout_at(deadline, &mut server).await {
                 Ok(joined) => Some(joined),
                 Err(_) => {
-                    tracing::warn!("connections still open at the end of the grace period; closing them");
+                    tracing::warn!(
+                        "connections still open when the grace period ran out; stopping without them"
+                    );
                     server.abort();
                     None
                 }

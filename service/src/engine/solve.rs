@@ -18,7 +18,7 @@ use ratewell_proto::rule::{
 use rayon::prelude::*;
 use std::sync::Arc;
 
-/// The stop flag, here too because solves were the first computations to read it.
+/// The stop flag ([`super::cancel`]), also named here, where solves first took it.
 pub use super::Cancel;
 
 /// How temperatures and densities combine into points.
