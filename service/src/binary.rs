@@ -6,6 +6,7 @@ use crate::log_escape::Escaping;
 use crate::server;
 use clap::Parser;
 use std::process::ExitCode;
+use std::time::Duration;
 use tracing_subscriber::EnvFilter;
 
 /// The whole server process: configuration from flags, file and environment, logs, bind,
@@ -44,7 +45,7 @@ pub fn main() -> ExitCode {
             return ExitCode::FAILURE;
         }
     };
-    runtime.block_on(async move {
+    let code = runtime.block_on(async move {
         let listener = match tokio::net::TcpListener::bind(config.listen).await {
             Ok(l) => l,
             Err(e) => {
@@ -59,8 +60,16 @@ pub fn main() -> ExitCode {
                 ExitCode::FAILURE
             }
         }
-    })
+    });
+    // Dropping the runtime would wait for every blocking task. Work cut at shutdown stops at
+    // its next check of the stop flag anyway; this bounds the wait whatever it is doing, so
+    // the process exits within the shutdown grace plus this margin.
+    runtime.shutdown_timeout(EXIT_MARGIN);
+    code
 }
+
+/// Longest wait, after serving has stopped, for blocking work still running.
+const EXIT_MARGIN: Duration = Duration::from_millis(250);
 
 /// Resolves on SIGINT (Ctrl-C) or, on Unix, SIGTERM.
 async fn shutdown_signal() {

@@ -127,7 +127,18 @@ fn log_refused_folder(folder: &str, error: &EngineError) {
     }
 }
 
-/// Serves on `listener` until `shutdown` resolves, then drains and stops.
+/// How long before the end of the shutdown grace the calls still in flight are cut: a quarter
+/// of the grace, at most 250 ms, which leaves the cut calls' UNAVAILABLE statuses time to be
+/// written and their connections time to close before the server is aborted.
+fn cut_margin(grace: Duration) -> Duration {
+    (grace / 4).min(Duration::from_millis(250))
+}
+
+/// Serves on `listener` until `shutdown` resolves, then drains and stops: health NOT_SERVING,
+/// `drain`, no new connections or calls, then in-flight calls get until `shutdown_grace` to
+/// finish; those still running [`cut_margin`] before its end are answered UNAVAILABLE and their
+/// work told to stop. `run` returns within `drain + shutdown_grace` (plus at most one
+/// [`crate::linger::LINGER`] for the metrics endpoint).
 pub async fn run(
     listener: TcpListener,
     config: Config,
@@ -283,7 +294,7 @@ pub async fn serve(
         None => None,
     };
     let (stop_tx, stop_rx) = tokio::sync::oneshot::channel::<()>();
-    let server = tokio::spawn(router.serve_with_incoming_shutdown(incoming, async {
+    let mut server = tokio::spawn(router.serve_with_incoming_shutdown(incoming, async {
         let _ = stop_rx.await;
     }));
     shutdown.await;
@@ -305,17 +316,32 @@ pub async fn serve(
     tokio::time::sleep(config.drain).await;
     let _ = stop_tx.send(());
     let deadline = tokio::time::Instant::now() + config.shutdown_grace;
-    let abort = server.abort_handle();
-    match tokio::time::timeout_at(deadline, server).await {
-        Ok(joined) => joined??,
+    // Calls still in flight a margin before the deadline are cut (UNAVAILABLE) so that their
+    // statuses are written and the connections close before the server is aborted.
+    let cut_at = deadline - cut_margin(config.shutdown_grace);
+    let stopped = match tokio::time::timeout_at(cut_at, &mut server).await {
+        Ok(joined) => Some(joined),
         Err(_) => {
             tracing::warn!(
                 grace_s = config.shutdown_grace.as_secs_f64(),
-                "in-flight calls did not finish within the grace period; cutting them"
+                in_flight = state.in_flight(),
+                "in-flight calls still running at the end of the grace period; cutting them with UNAVAILABLE"
             );
             state.cut_in_flight();
-            abort.abort();
+            match tokio::time::timeout_at(deadline, &mut server).await {
+                Ok(joined) => Some(joined),
+                Err(_) => {
+                    tracing::warn!(
+                        "connections still open when the grace period ran out; stopping without them"
+                    );
+                    server.abort();
+                    None
+                }
+            }
         }
+    };
+    if let Some(joined) = stopped {
+        joined??;
     }
     // Closed connections drain their peers' last bytes, so the final answers arrive whole;
     // this wait stays within the grace period (and at most one linger).

@@ -3,7 +3,10 @@
 //! BadRequest field violations.
 
 use ratewell_proto::pb;
+use ratewell_proto::pb::rates_client::RatesClient;
 use std::time::{Duration, Instant};
+use tokio::task::JoinHandle;
+use tonic::transport::Channel;
 use tonic::{Code, Status};
 use tonic_types::StatusExt;
 
@@ -95,6 +98,30 @@ pub fn big_solve() -> pb::SolvePopulationsRequest {
     req
 }
 
+/// [`big_solve`] on `axis` x `axis` points (the same ranges, species and answer settings).
+pub fn big_solve_of(axis: usize) -> pb::SolvePopulationsRequest {
+    let mut req = big_solve();
+    req.temperatures = log_spaced(2e3, 2e5, axis);
+    req.densities = log_spaced(1e2, 1e10, axis);
+    req
+}
+
+/// The axis of a [`big_solve_of`] that takes at least about `target` where [`big_solve`] took
+/// `measured`: a solve's time grows with its number of points (one balance solve per point;
+/// common practice, no source).
+pub fn big_solve_axis_for(measured: Duration, target: Duration) -> usize {
+    let base = (BIG_SOLVE_AXIS * BIG_SOLVE_AXIS) as f64;
+    let points = base * target.as_secs_f64() / measured.as_secs_f64().max(1e-3);
+    (points.sqrt().ceil() as usize).max(BIG_SOLVE_AXIS)
+}
+
+/// Generous bytes of the answer to a [`big_solve_of`] with `points` points: the populations and
+/// two critical-density lists of the 34 levels as doubles, one line and the fixed fields, per
+/// point, with room to spare (for a server's `max_message_bytes`, which bounds answers too).
+pub fn big_solve_answer_bytes(points: usize) -> usize {
+    points * (3 * 34 * 8 + 256)
+}
+
 /// The shortest big solve that still leaves room for the tenth-of-the-solve deadlines and
 /// drain periods the tests derive from it.
 const SHORTEST_BIG_SOLVE: Duration = Duration::from_millis(30);
@@ -118,6 +145,48 @@ pub async fn time_big_solve(server: &crate::TestServer) -> Duration {
          raise BIG_SOLVE_AXIS"
     );
     solve_time
+}
+
+/// The probe of a server's permits: the smallest lookup, answered inline under the same
+/// concurrency permit as every engine call, so with `max_in_flight = 1` it is shed with
+/// RESOURCE_EXHAUSTED exactly while other work holds the permit.
+pub async fn probe(rates: &mut RatesClient<Channel>) -> Result<(), Status> {
+    rates.lookup_rates(lookup(MK_III, vec![1e4])).await.map(|_| ())
+}
+
+/// A call running in a task, ending with its status.
+pub type Call = JoinHandle<Result<(), Status>>;
+
+/// Starts the call `start` makes and returns once the server (with `max_in_flight = 1`) is
+/// observed computing it: a [`probe`] is shed. A call that was itself shed, because a probe
+/// held the permit as it arrived, is started again.
+pub async fn in_flight(mut rates: RatesClient<Channel>, start: impl Fn() -> Call) -> Call {
+    let mut call = start();
+    let began = Instant::now();
+    loop {
+        assert!(
+            began.elapsed() < Duration::from_secs(30),
+            "the call was never observed in flight"
+        );
+        if call.is_finished() {
+            let status = call
+                .await
+                .expect("call task")
+                .expect_err("the call finished before any probe saw it in flight");
+            assert_eq!(status.code(), Code::ResourceExhausted, "{status:?}");
+            call = start();
+            continue;
+        }
+        match probe(&mut rates).await {
+            Err(s) if s.code() == Code::ResourceExhausted => {
+                assert!(s.message().contains("server busy"), "{}", s.message());
+                return call;
+            }
+            Err(s) => panic!("probe failed: {s:?}"),
+            // Paces the probes only; the refusal above is the signal.
+            Ok(()) => tokio::time::sleep(Duration::from_millis(5)).await,
+        }
+    }
 }
 
 /// `n` values spaced evenly in log from `min` to `max` (both included; `n` >= 2).

@@ -1,15 +1,18 @@
 //! Graceful shutdown end to end: a call in flight when shutdown begins completes with its full
-//! answer before `run` returns; the stop is bounded by `shutdown_grace`.
+//! answer before `run` returns; the stop is bounded by `shutdown_grace`, and the calls and
+//! streams still in flight when it runs out are answered UNAVAILABLE before `run` returns.
 //!
 //! "In flight" is observed, not assumed: the server is started with `max_in_flight = 1`, so
 //! while the big solve holds the only engine permit a cheap probe is shed with
 //! RESOURCE_EXHAUSTED.
 
-use ratewell_e2e::requests::{BIG_SOLVE_AXIS, MK_III, big_solve, lookup, time_big_solve};
+use ratewell_e2e::requests::{BIG_SOLVE_AXIS, MK_III, assert_status, big_solve, lookup, time_big_solve};
 use ratewell_e2e::{TestServer, test_config};
 use ratewell_proto::pb;
 use std::time::{Duration, Instant};
+use tokio::sync::mpsc;
 use tokio::task::JoinHandle;
+use tokio_stream::wrappers::ReceiverStream;
 use tonic::{Code, Status};
 
 type SolveTask = JoinHandle<Result<pb::SolvePopulationsResponse, Status>>;
@@ -114,8 +117,44 @@ async fn shutdown_grace_bounds_the_wait_for_in_flight_calls() {
         .await
         .expect("the cut call ends")
         .expect("solve task");
-    assert!(
-        answer.is_err(),
+    let status = answer.expect_err(&format!(
         "run returned after {stop_time:?}, yet the in-flight call went on to complete"
+    ));
+    assert_status(
+        &status,
+        Code::Unavailable,
+        &["server stopping", "retry on another endpoint"],
     );
+}
+
+#[tokio::test(flavor = "multi_thread", worker_threads = 2)]
+async fn a_stream_still_open_when_the_grace_runs_out_ends_with_unavailable() {
+    let config = ratewell_service::config::Config {
+        drain: Duration::ZERO,
+        // A stream the client keeps open holds the graceful stop until the grace runs out.
+        shutdown_grace: Duration::from_millis(400),
+        ..test_config()
+    };
+    let mut server = TestServer::start_with(config).await;
+    let (tx, rx) = mpsc::channel(1);
+    let mut answers = server
+        .rates()
+        .lookup_rates_stream(ReceiverStream::new(rx))
+        .await
+        .expect("stream opened")
+        .into_inner();
+    tx.send(lookup(MK_III, vec![1e4])).await.expect("send");
+    answers.message().await.expect("an answer").expect("open");
+    server.begin_shutdown();
+    server.wait_stopped().await.expect("stop after the grace period");
+    let status = tokio::time::timeout(Duration::from_secs(30), answers.message())
+        .await
+        .expect("the stream ends")
+        .expect_err("the stream was cut");
+    assert_status(
+        &status,
+        Code::Unavailable,
+        &["server stopping", "retry on another endpoint"],
+    );
+    drop(tx);
 }

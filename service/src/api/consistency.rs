@@ -18,8 +18,10 @@ impl Consistency for ConsistencyHandler {
         let deadline = deadline_of(&request);
         let req = request.into_inner();
         self.0
-            .run(deadline, move |engine| {
-                Ok(compare_answer(engine.compare(&compare_query(&req)?)?))
+            .run_cancellable(deadline, move |engine, cancel| {
+                Ok(compare_answer(
+                    engine.compare_cancellable(&compare_query(&req)?, cancel)?,
+                ))
             })
             .await
             .map(Response::new)

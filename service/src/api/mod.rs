@@ -14,8 +14,7 @@ pub mod status;
 pub mod transport;
 pub mod wire_status;
 
-use crate::engine::solve::Cancel;
-use crate::engine::{Engine, EngineError};
+use crate::engine::{Cancel, Engine, EngineError};
 use std::sync::Arc;
 use std::time::Duration;
 use tokio::sync::Semaphore;
@@ -73,6 +72,14 @@ fn grpc_timeout<T>(request: &tonic::Request<T>) -> Option<Duration> {
         "n" => Duration::from_nanos(value),
         _ => return None,
     })
+}
+
+/// The answer of a call cut because the server is stopping: UNAVAILABLE, which clients may
+/// retry elsewhere.
+pub fn stopping_status() -> Status {
+    Status::unavailable(
+        "server stopping: the call was cut when the shutdown grace period ran out; retry on another endpoint",
+    )
 }
 
 /// Sets its flag when dropped: ties a computation's lifetime to the call waiting for it.
@@ -145,15 +152,24 @@ impl AppState {
         self.request_timeout
     }
 
-    /// Ends every call still in flight with UNAVAILABLE (when the shutdown grace runs out).
+    /// Ends every call still in flight with UNAVAILABLE ([`stopping_status`]), streams
+    /// included, and sets the stop flag of their work (when the shutdown grace runs out).
     pub fn cut_in_flight(&self) {
         self.cut.send_replace(true);
     }
 
-    /// Runs `work` on the blocking pool under a concurrency permit and maps its error. At the
-    /// earlier of the client's deadline and `request_timeout` the call answers
-    /// DEADLINE_EXCEEDED, a few milliseconds early so the status reaches the client before the
-    /// transport's own timer cancels the call. (The blocking work itself runs to completion.)
+    /// Resolves once [`Self::cut_in_flight`] was called (at once if it was already).
+    pub async fn wait_for_cut(&self) {
+        let mut cut = self.cut.subscribe();
+        // The sender lives in `self`, so the wait ends only by the cut.
+        let _ = cut.wait_for(|&c| c).await;
+    }
+
+    /// [`Self::run_cancellable`] for work that does not read the stop flag: when the call
+    /// ends early (deadline, shutdown cut, client gone) it is answered at once, but the work
+    /// goes on to its end on the blocking pool and keeps its permit until then. Only for work
+    /// that is short whatever the request, or that should finish anyway (a dataset load, which
+    /// is swapped in whole).
     pub async fn run<T, F>(&self, deadline: Option<Duration>, work: F) -> Result<T, Status>
     where
         T: Send + 'static,
@@ -202,8 +218,18 @@ impl AppState {
         )
     }
 
-    /// [`Self::run`] for work that checks a [`Cancel`] flag, set when the call is answered
-    /// DEADLINE_EXCEEDED or cut at shutdown, so abandoned work stops early.
+    /// Runs `work` on the blocking pool under a concurrency permit (shedding the call with
+    /// RESOURCE_EXHAUSTED when none is free) and maps its error. At the earlier of the
+    /// client's deadline and `request_timeout` the call answers DEADLINE_EXCEEDED, a few
+    /// milliseconds early so the status reaches the client before the transport's own timer
+    /// cancels the call; when the shutdown grace runs out it answers UNAVAILABLE.
+    ///
+    /// Whenever the call ends before the work (deadline, shutdown cut, or the client going
+    /// away, which drops this future) the work's [`Cancel`] flag is set. Engine work checks it
+    /// between pieces and stops with [`EngineError::Cancelled`], and the permit, held by the
+    /// work, is freed then: at most one piece of work after the call ended (one point of a
+    /// solve or one table of a build per thread, one transition of a comparison, one block of
+    /// a lookup).
     pub async fn run_cancellable<T, F>(&self, deadline: Option<Duration>, work: F) -> Result<T, Status>
     where
         T: Send + 'static,
@@ -223,7 +249,6 @@ impl AppState {
             work(&engine, &worker_cancel)
         });
         let limit = deadline.map_or(self.request_timeout, |d| d.min(self.request_timeout));
-        let mut cut = self.cut.subscribe();
         let joined = tokio::select! {
             finished = tokio::time::timeout(limit.saturating_sub(deadline_margin(limit)), task) => match finished {
                 Ok(joined) => joined,
@@ -234,9 +259,7 @@ impl AppState {
                     )));
                 }
             },
-            _ = cut.wait_for(|&c| c) => {
-                return Err(Status::unavailable("server stopping: call cut when the shutdown grace period ran out"));
-            }
+            () = self.wait_for_cut() => return Err(stopping_status()),
         };
         match joined {
             Ok(result) => result.map_err(|e| {

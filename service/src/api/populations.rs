@@ -18,8 +18,10 @@ impl Populations for PopulationsHandler {
         let deadline = deadline_of(&request);
         let req = request.into_inner();
         self.0
-            .run(deadline, move |engine| {
-                Ok(solve_answer(engine.solve(&solve_query(&req)?)?))
+            .run_cancellable(deadline, move |engine, cancel| {
+                Ok(solve_answer(
+                    engine.solve_cancellable(&solve_query(&req)?, cancel)?,
+                ))
             })
             .await
             .map(Response::new)

@@ -1,10 +1,13 @@
 //! Rates service: fetch tables for local evaluation, batched lookups, streamed lookups.
 
 use super::convert::{grid_spec, lookup_answer, lookup_query, selector, stamp};
-use super::{AppState, deadline_of};
+use super::{AppState, deadline_of, status, stopping_status};
+use crate::engine::lookup::LookupQuery;
+use crate::engine::{EngineError, LoadedDataset, Snapshots};
 use ratewell_proto::pb::{self, rates_server::Rates};
 use ratewell_proto::wire::{grid_to_wire, table_to_wire};
 use std::pin::Pin;
+use std::sync::Arc;
 use tokio_stream::{Stream, StreamExt};
 use tonic::{Request, Response, Status, Streaming};
 
@@ -37,9 +40,14 @@ impl Rates for RatesHandler {
         let deadline = deadline_of(&request);
         let req = request.into_inner();
         self.0
-            .run(deadline, move |engine| {
+            .run_cancellable(deadline, move |engine, cancel| {
                 let loaded = engine.select(&selector(req.dataset.as_ref(), "dataset")?)?;
-                let tables = engine.species_tables(&loaded, &req.species, grid_spec(req.grid.as_ref()))?;
+                let tables = engine.species_tables_cancellable(
+                    &loaded,
+                    &req.species,
+                    grid_spec(req.grid.as_ref()),
+                    cancel,
+                )?;
                 Ok(pb::FetchTablesResponse {
                     stamp: Some(stamp(&loaded.stamp)),
                     species: tables.species.clone(),
@@ -66,8 +74,10 @@ impl Rates for RatesHandler {
                 .map(Response::new);
         }
         self.0
-            .run(deadline, move |engine| {
-                Ok(lookup_answer(engine.lookup(&lookup_query(&req)?)?))
+            .run_cancellable(deadline, move |engine, cancel| {
+                Ok(lookup_answer(
+                    engine.lookup_cancellable(&lookup_query(&req)?, cancel)?,
+                ))
             })
             .await
             .map(Response::new)
@@ -75,6 +85,10 @@ impl Rates for RatesHandler {
 
     type LookupRatesStreamStream = LookupStream;
 
+    /// Each message is answered in order. An unpinned selector is resolved at the first
+    /// message naming it and every later message naming it is answered from that same dataset,
+    /// even after a reload ([`Snapshots`]). The work of a message stops when the client goes
+    /// away; at the shutdown cut the stream ends with UNAVAILABLE like any call.
     async fn lookup_rates_stream(
         &self,
         request: Request<Streaming<pb::LookupRatesRequest>>,
@@ -85,10 +99,18 @@ impl Rates for RatesHandler {
         let state = self.0.clone();
         let idle_limit = state.request_timeout();
         let output = async_stream_of(move |tx| async move {
+            let mut snapshots = Snapshots::default();
             loop {
                 // A stream that sends nothing for the request timeout is ended, so idle streams
                 // do not outlive it.
-                let next = match tokio::time::timeout(idle_limit, incoming.next()).await {
+                let next = tokio::select! {
+                    next = tokio::time::timeout(idle_limit, incoming.next()) => next,
+                    () = state.wait_for_cut() => {
+                        let _ = tx.send(Err(stopping_status())).await;
+                        break;
+                    }
+                };
+                let next = match next {
                     Ok(Some(next)) => next,
                     Ok(None) => break,
                     Err(_) => {
@@ -101,17 +123,20 @@ impl Rates for RatesHandler {
                         break;
                     }
                 };
-                let answer = match next {
-                    Ok(req) => {
+                let answer = match next.map(|req| stream_lookup(&state, &mut snapshots, &req)) {
+                    Ok(Ok((loaded, query))) => {
                         // The stream's deadline covers the whole stream.
                         let left = deadline.map(|d| d.saturating_sub(started.elapsed()));
-                        state
-                            .run(left, move |engine| {
-                                Ok(lookup_answer(engine.lookup(&lookup_query(&req)?)?))
-                            })
-                            .await
+                        let work = state.run_cancellable(left, move |engine, cancel| {
+                            Ok(lookup_answer(engine.lookup_in(&loaded, &query, cancel)?))
+                        });
+                        tokio::select! {
+                            answer = work => answer,
+                            // Nobody reads the answer: dropping the call stops its work.
+                            () = tx.closed() => break,
+                        }
                     }
-                    Err(status) => Err(status),
+                    Ok(Err(status)) | Err(status) => Err(status),
                 };
                 let failed = answer.is_err();
                 if tx.send(answer).await.is_err() || failed {
@@ -121,6 +146,21 @@ impl Rates for RatesHandler {
         });
         Ok(Response::new(output))
     }
+}
+
+/// A stream message as a lookup query and the dataset it is answered from (kept in
+/// `snapshots` from the first message naming it).
+fn stream_lookup(
+    state: &AppState,
+    snapshots: &mut Snapshots,
+    req: &pb::LookupRatesRequest,
+) -> Result<(Arc<LoadedDataset>, LookupQuery), Status> {
+    let refused = |e: EngineError| status::to_status(&e);
+    let query = lookup_query(req).map_err(refused)?;
+    let loaded = snapshots
+        .resolve(&query.selector, |s| state.engine.select(s))
+        .map_err(refused)?;
+    Ok((loaded, query))
 }
 
 /// A response stream fed by a spawned task through a small bounded channel (backpressure: the

@@ -54,7 +54,10 @@ pub fn to_status(error: &EngineError) -> Status {
         EngineError::Load(load) => load_status(load, message),
         EngineError::Table(table) => table_status(table, message),
         EngineError::Rule(rule) => rule_status(rule, message),
-        EngineError::Cancelled => Status::deadline_exceeded(message),
+        // The caller gave up (deadline, disconnect, shutdown cut) before the work stopped, so
+        // nobody reads this; when the call itself still waits, it gets the reason instead
+        // (DEADLINE_EXCEEDED or UNAVAILABLE, from `AppState::run_cancellable`).
+        EngineError::Cancelled => Status::cancelled(message),
         EngineError::Solve(physics) => solve_status(physics, message),
     }
 }
@@ -114,6 +117,8 @@ fn table_status(error: &TableError, message: String) -> Status {
         }
         TableError::Evaluation(_) => Status::internal(message),
         TableError::Rule(rule) => rule_status(rule, message),
+        // The engine reports a stopped build as EngineError::Cancelled; the same code here.
+        TableError::Stopped => Status::cancelled(message),
     }
 }
 

@@ -1,7 +1,7 @@
 //! Consistency comparison of two datasets (or two versions of one) on a temperature grid: the
 //! largest relative difference of each shared transition's de-excitation rate coefficient.
 
-use super::{Engine, EngineError, GridSpec, Selector, Stamp, admit};
+use super::{Cancel, Engine, EngineError, GridSpec, Selector, Stamp, admit};
 use crate::dataset::Species;
 use ratewell_proto::rule::LogGrid;
 
@@ -70,6 +70,17 @@ pub fn max_relative_difference(a: &[f64], b: &[f64], temperatures_k: &[f64]) -> 
 impl Engine {
     /// Compares two loaded datasets. CPU work proportional to transitions x grid points.
     pub fn compare(&self, query: &CompareQuery) -> Result<CompareAnswer, EngineError> {
+        self.compare_cancellable(query, &Cancel::default())
+    }
+
+    /// [`Self::compare`], checking `cancel` before each table of a build on a custom grid and
+    /// before each transition compared, and stopping with [`EngineError::Cancelled`] once it
+    /// is set.
+    pub fn compare_cancellable(
+        &self,
+        query: &CompareQuery,
+        cancel: &Cancel,
+    ) -> Result<CompareAnswer, EngineError> {
         let first = self.select(&query.first)?;
         let second = self.select(&query.second)?;
         let spec = query.grid.unwrap_or(GridSpec {
@@ -129,9 +140,10 @@ impl Engine {
                 continue;
             };
             answer.level_mismatches.extend(level_mismatches(s1, s2));
-            let t1 = self.species_tables(&first, name, Some(spec))?;
-            let t2 = self.species_tables(&second, name, Some(spec))?;
+            let t1 = self.species_tables_cancellable(&first, name, Some(spec), cancel)?;
+            let t2 = self.species_tables_cancellable(&second, name, Some(spec), cancel)?;
             for a in &t1.tables {
+                cancel.check()?;
                 let h = a.header();
                 let Some(b) = t2.get(h.upper, h.lower) else {
                     answer

@@ -105,8 +105,11 @@ pub enum EngineError {
     /// The evaluation rule refused an input.
     #[error(transparent)]
     Rule(#[from] RuleError),
-    /// The caller gave up (its deadline passed) and the computation stopped early.
-    #[error("computation stopped: the caller's deadline passed")]
+    /// The caller gave up (its deadline passed, it went away, or the server is stopping) and
+    /// the computation stopped early.
+    #[error(
+        "computation stopped early: the caller gave up (deadline passed, client gone or server stopping)"
+    )]
     Cancelled,
     /// The population solve failed.
     #[error("population solve failed: {0}")]

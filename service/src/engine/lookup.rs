@@ -2,7 +2,7 @@
 //! shared rule (each temperature located once on the species' grid).
 
 use super::units::{RateUnit, TemperatureUnit};
-use super::{Engine, EngineError, GridSpec, Selector, Stamp, admit};
+use super::{Cancel, Engine, EngineError, GridSpec, Selector, Stamp, admit};
 use crate::limits::{SPLIT_ADVICE, check};
 use ratewell_proto::rule::{
     Direction, OutsidePolicy, RateOutputs, RateTable, RuleError, Threads, checked_location, write_rows,
@@ -77,6 +77,10 @@ pub fn temperatures_in_kelvin(values: &[f64], unit: TemperatureUnit) -> Result<V
     Ok(values.iter().map(|&v| unit.to_kelvin(v)).collect())
 }
 
+/// Values a lookup computes between two checks of its stop flag: a few milliseconds of work,
+/// and many times what the pool needs to share a block out between threads.
+pub const LOOKUP_BLOCK_VALUES: usize = 1 << 18;
+
 impl Engine {
     /// Refuses a lookup over `max_lookup_values` or with an answer over the message limit,
     /// before any table is built or value computed.
@@ -110,10 +114,32 @@ impl Engine {
 
     /// Answers a batched lookup. CPU work proportional to transitions x temperatures.
     pub fn lookup(&self, query: &LookupQuery) -> Result<LookupAnswer, EngineError> {
+        self.lookup_cancellable(query, &Cancel::default())
+    }
+
+    /// [`Self::lookup`], checking `cancel` before each table of a build on a custom grid and
+    /// before each block of [`LOOKUP_BLOCK_VALUES`] values, and stopping with
+    /// [`EngineError::Cancelled`] once it is set.
+    pub fn lookup_cancellable(
+        &self,
+        query: &LookupQuery,
+        cancel: &Cancel,
+    ) -> Result<LookupAnswer, EngineError> {
         let loaded = self.select(&query.selector)?;
+        self.lookup_in(&loaded, query, cancel)
+    }
+
+    /// [`Self::lookup_cancellable`] answered from `loaded`, a dataset the caller resolved
+    /// `query.selector` to beforehand (a lookup stream keeps its first resolution).
+    pub fn lookup_in(
+        &self,
+        loaded: &super::LoadedDataset,
+        query: &LookupQuery,
+        cancel: &Cancel,
+    ) -> Result<LookupAnswer, EngineError> {
         let temps_k = temperatures_in_kelvin(&query.temperatures, query.temperature_unit)?;
-        self.admit_lookup(&loaded, query)?;
-        let tables = self.species_tables(&loaded, &query.species, query.grid)?;
+        self.admit_lookup(loaded, query)?;
+        let tables = self.species_tables_cancellable(loaded, &query.species, query.grid, cancel)?;
         let positions: Vec<usize> = if query.transitions.is_empty() {
             (0..tables.tables.len()).collect()
         } else {
@@ -150,12 +176,24 @@ impl Engine {
         let mut deexcitation = sized(dir.wants_deexcitation());
         let mut flags = vec![0u32; total];
         let rows: Vec<&RateTable> = positions.iter().map(|&p| &tables.tables[p]).collect();
-        write_rows(
-            &rows,
-            &locations,
-            Threads::Pool,
-            &mut RateOutputs::new(dir, &mut excitation, &mut deexcitation, &mut flags)?,
-        )?;
+        // Whole rows per block (outputs are transition-major), each block big enough for the
+        // pool to share out.
+        let block_rows = (LOOKUP_BLOCK_VALUES / n_t.max(1)).max(1);
+        let block_values = block_rows * n_t;
+        let mut excitation_blocks = excitation.chunks_mut(block_values);
+        let mut deexcitation_blocks = deexcitation.chunks_mut(block_values);
+        for (block, flags) in rows.chunks(block_rows).zip(flags.chunks_mut(block_values)) {
+            cancel.check()?;
+            // An unwanted direction's buffer is empty, and so is its block.
+            let excitation = excitation_blocks.next().unwrap_or_default();
+            let deexcitation = deexcitation_blocks.next().unwrap_or_default();
+            write_rows(
+                block,
+                &locations,
+                Threads::Pool,
+                &mut RateOutputs::new(dir, excitation, deexcitation, flags)?,
+            )?;
+        }
         if query.rate_unit == RateUnit::CubicMetrePerSecond {
             excitation
                 .iter_mut()

@@ -8,10 +8,12 @@
 //! - [`solve`]: population solves over lists or grids of (Te, ne), in parallel.
 //! - [`compare`]: consistency comparison of two datasets.
 //! - [`admit`]: dataset and request limits, checked before the work they guard.
+//! - [`cancel`]: the stop flag long computations read between pieces of work.
 //! - [`units`]: request and answer units.
 //! - [`error`]: the engine's error enum.
 
 pub mod admit;
+pub mod cancel;
 pub mod compare;
 pub mod error;
 pub mod folders;
@@ -20,9 +22,10 @@ pub mod registry;
 pub mod solve;
 pub mod units;
 
+pub use cancel::Cancel;
 pub use error::EngineError;
 pub use folders::{FolderOutcome, FolderRecord};
-pub use registry::{LoadedDataset, Registry, Selector, SolveInputs, Stamp};
+pub use registry::{LoadedDataset, Registry, Selector, Snapshots, SolveInputs, Stamp};
 
 use crate::dataset::{self, Dataset};
 use crate::limits::Limits;
@@ -30,7 +33,10 @@ use crate::physics::PhysicsError;
 use crate::physics::elementary::log10;
 use crate::physics::emission::line_terms;
 use crate::physics::populations::RadiativeRate;
-use crate::tables::{CacheStats, SpeciesTables, TableCache, TableKey, build_species_tables};
+use crate::tables::{
+    CacheStats, SpeciesTables, TableCache, TableError, TableKey, build_species_tables,
+    build_species_tables_until,
+};
 use ratewell_proto::rule::LogGrid;
 use std::collections::HashMap;
 use std::path::{Path, PathBuf};
@@ -318,6 +324,19 @@ impl Engine {
         species: &str,
         grid: Option<GridSpec>,
     ) -> Result<Arc<SpeciesTables>, EngineError> {
+        self.species_tables_cancellable(loaded, species, grid, &Cancel::default())
+    }
+
+    /// [`Self::species_tables`], checking `cancel` before each table of a build (and while
+    /// waiting for another call's build of the same tables), and stopping with
+    /// [`EngineError::Cancelled`] once it is set. A stopped build leaves nothing in the cache.
+    pub fn species_tables_cancellable(
+        &self,
+        loaded: &LoadedDataset,
+        species: &str,
+        grid: Option<GridSpec>,
+        cancel: &Cancel,
+    ) -> Result<Arc<SpeciesTables>, EngineError> {
         let default = loaded
             .tables
             .get(species)
@@ -338,9 +357,12 @@ impl Engine {
             .dataset
             .species(species)
             .ok_or_else(|| unknown_species_error(loaded, species))?;
-        self.inner
-            .cache
-            .get_or_build(key, || Ok(Arc::new(build_species_tables(data, grid)?)))
+        let build = || match build_species_tables_until(data, grid, &|| cancel.is_cancelled()) {
+            Ok(tables) => Ok(Arc::new(tables)),
+            Err(TableError::Stopped) => Err(EngineError::Cancelled),
+            Err(other) => Err(other.into()),
+        };
+        self.inner.cache.get_or_build(key, build, || cancel.check())
     }
 
     /// Knots of the grid `spec` names (the default grid's when `None`), for limits checked
@@ -403,4 +425,168 @@ fn solve_inputs_for(species: &dataset::Species) -> Result<SolveInputs, PhysicsEr
         radiative,
         lines,
     })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::compare::CompareQuery;
+    use super::lookup::{LOOKUP_BLOCK_VALUES, LookupQuery};
+    use super::units::{RateUnit, TemperatureUnit};
+    use super::*;
+    use ratewell_proto::rule::{Direction, OutsidePolicy, RateOutputs, RateTable, Threads, write_rows};
+
+    /// The demo (1.0.0) and its second version (1.1.0) from the repository's data folder.
+    fn engine_with_both_versions() -> Engine {
+        let engine = Engine::new(EngineConfig::default());
+        engine.load_demo().expect("demo loads");
+        engine
+            .load_path(&Path::new(env!("CARGO_MANIFEST_DIR")).join("data/demo-v2"))
+            .expect("demo-v2 loads");
+        engine
+    }
+
+    fn demo(version: Option<&str>, expected_hash: Option<&str>) -> Selector {
+        Selector {
+            id: "demo".into(),
+            version: version.map(str::to_owned),
+            expected_hash: expected_hash.map(str::to_owned),
+        }
+    }
+
+    /// A grid other than the default one (so tables are built for it), 10 K to 1e9 K.
+    fn custom_grid() -> GridSpec {
+        GridSpec {
+            t_min_k: 10.0,
+            t_max_k: 1e9,
+            points_per_decade: 7,
+        }
+    }
+
+    fn lookup_all(species: &str, temperatures_k: Vec<f64>, grid: Option<GridSpec>) -> LookupQuery {
+        LookupQuery {
+            selector: demo(None, None),
+            species: species.into(),
+            transitions: Vec::new(),
+            temperatures: temperatures_k,
+            temperature_unit: TemperatureUnit::Kelvin,
+            direction: Direction::Both,
+            rate_unit: RateUnit::CubicCentimetrePerSecond,
+            outside: OutsidePolicy::Refuse,
+            grid,
+        }
+    }
+
+    fn cancelled() -> Cancel {
+        let cancel = Cancel::default();
+        cancel.cancel();
+        cancel
+    }
+
+    #[test]
+    fn a_cancelled_build_leaves_nothing_in_the_cache() {
+        let engine = engine_with_both_versions();
+        let loaded = engine.select(&demo(Some("1.0.0"), None)).unwrap();
+        let stopped = engine.species_tables_cancellable(&loaded, "Mk II", Some(custom_grid()), &cancelled());
+        assert!(matches!(stopped, Err(EngineError::Cancelled)), "{stopped:?}");
+        assert_eq!(engine.cache_stats().entries, 0);
+        // The default grid's tables need no build: a set flag does not refuse them.
+        assert!(
+            engine
+                .species_tables_cancellable(&loaded, "Mk II", None, &cancelled())
+                .is_ok()
+        );
+        let built = engine
+            .species_tables_cancellable(&loaded, "Mk II", Some(custom_grid()), &Cancel::default())
+            .expect("an uncancelled build");
+        assert_eq!(built.tables.len(), loaded.tables["Mk II"].tables.len());
+        assert_eq!(engine.cache_stats().entries, 1);
+    }
+
+    #[test]
+    fn cancelled_lookups_and_comparisons_stop_with_cancelled() {
+        let engine = engine_with_both_versions();
+        let query = lookup_all("Mk II", vec![1e4, 2e4], None);
+        assert!(matches!(
+            engine.lookup_cancellable(&query, &cancelled()),
+            Err(EngineError::Cancelled)
+        ));
+        assert!(engine.lookup_cancellable(&query, &Cancel::default()).is_ok());
+        let compare = CompareQuery {
+            first: demo(Some("1.0.0"), None),
+            second: demo(Some("1.1.0"), None),
+            species: Vec::new(),
+            grid: None,
+        };
+        assert!(matches!(
+            engine.compare_cancellable(&compare, &cancelled()),
+            Err(EngineError::Cancelled)
+        ));
+        assert!(engine.compare_cancellable(&compare, &Cancel::default()).is_ok());
+    }
+
+    #[test]
+    fn a_lookup_in_blocks_has_the_bits_of_one_batch() {
+        // common practice, no source: splitting work between checks of the stop flag must not
+        // change the answer.
+        let engine = engine_with_both_versions();
+        let temperatures: Vec<f64> = (0..1000).map(|i| 1e3 + 97.0 * f64::from(i)).collect();
+        let answer = engine
+            .lookup(&lookup_all("Mk II", temperatures.clone(), None))
+            .unwrap();
+        let loaded = engine.select(&demo(None, None)).unwrap();
+        let tables = &loaded.tables["Mk II"];
+        assert!(
+            answer.flags.len() > 2 * LOOKUP_BLOCK_VALUES,
+            "more than two blocks"
+        );
+        let locations: Vec<_> = temperatures.iter().map(|&t| tables.grid.locate(t)).collect();
+        let rows: Vec<&RateTable> = tables.tables.iter().collect();
+        let total = rows.len() * locations.len();
+        let (mut exc, mut deexc, mut flags) = (vec![0.0; total], vec![0.0; total], vec![0u32; total]);
+        write_rows(
+            &rows,
+            &locations,
+            Threads::Pool,
+            &mut RateOutputs::new(Direction::Both, &mut exc, &mut deexc, &mut flags).unwrap(),
+        )
+        .unwrap();
+        let bits = |v: &[f64]| v.iter().map(|x| x.to_bits()).collect::<Vec<_>>();
+        assert_eq!(bits(&answer.excitation), bits(&exc));
+        assert_eq!(bits(&answer.deexcitation), bits(&deexc));
+        assert_eq!(answer.flags, flags);
+    }
+
+    #[test]
+    fn snapshots_keep_the_first_resolution_of_an_unpinned_selector() {
+        let engine = Engine::new(EngineConfig::default());
+        engine.load_demo().unwrap();
+        let mut snapshots = Snapshots::default();
+        let select = |s: &Selector| engine.select(s);
+        let first = snapshots.resolve(&demo(None, None), select).unwrap();
+        assert_eq!(first.stamp.version, "1.0.0");
+        engine
+            .load_path(&Path::new(env!("CARGO_MANIFEST_DIR")).join("data/demo-v2"))
+            .unwrap();
+        let newest = engine.select(&demo(None, None)).unwrap();
+        assert_eq!(newest.stamp.version, "1.1.0");
+        let again = snapshots.resolve(&demo(None, None), select).unwrap();
+        assert_eq!(again.stamp, first.stamp, "the kept snapshot, not the newest");
+        // Another version is resolved on its own (and kept).
+        let other = snapshots.resolve(&demo(Some("1.1.0"), None), select).unwrap();
+        assert_eq!(other.stamp, newest.stamp);
+        // A pinned selector is resolved afresh: the newest is 1.1.0, so 1.0.0's hash is refused.
+        let pinned = snapshots.resolve(&demo(None, Some(&first.stamp.content_hash)), select);
+        assert!(
+            matches!(pinned, Err(EngineError::HashMismatch { .. })),
+            "{pinned:?}"
+        );
+        let pinned = snapshots.resolve(&demo(None, Some(&newest.stamp.content_hash)), select);
+        assert_eq!(pinned.unwrap().stamp, newest.stamp);
+        // A selector that resolves to nothing is not kept.
+        let unknown = Selector {
+            id: "nothing".into(),
+            ..Selector::default()
+        };
+        assert!(snapshots.resolve(&unknown, select).is_err());
+    }
 }

@@ -140,6 +140,38 @@ impl Registry {
     }
 }
 
+/// Datasets resolved once and then kept, for a sequence of requests that must agree (the
+/// messages of one lookup stream). An unpinned selector (no content hash) is resolved at its
+/// first use and answered from that same dataset afterwards, even when a reload has swapped
+/// the registry meanwhile; a selector naming another id or version is resolved on its own and
+/// kept likewise. A pinned selector is resolved afresh each time: its hash already fixes the
+/// data. Only datasets that resolved are kept, so at most one per loaded id and version.
+#[derive(Default)]
+pub struct Snapshots {
+    kept: HashMap<(String, Option<String>), Arc<LoadedDataset>>,
+}
+
+impl Snapshots {
+    /// The dataset `selector` names: the kept one for an unpinned selector resolved before,
+    /// else what `select` finds (kept when the selector is unpinned).
+    pub fn resolve(
+        &mut self,
+        selector: &Selector,
+        select: impl FnOnce(&Selector) -> Result<Arc<LoadedDataset>, EngineError>,
+    ) -> Result<Arc<LoadedDataset>, EngineError> {
+        if selector.expected_hash.is_some() {
+            return select(selector);
+        }
+        let key = (selector.id.clone(), selector.version.clone());
+        if let Some(loaded) = self.kept.get(&key) {
+            return Ok(Arc::clone(loaded));
+        }
+        let loaded = select(selector)?;
+        self.kept.insert(key, Arc::clone(&loaded));
+        Ok(loaded)
+    }
+}
+
 /// Sort key of a version string; versions that do not parse sort first.
 fn version_key(version: &str) -> (u64, u64, u64) {
     parse_version(version).unwrap_or((0, 0, 0))

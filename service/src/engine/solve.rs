@@ -17,7 +17,9 @@ use ratewell_proto::rule::{
 };
 use rayon::prelude::*;
 use std::sync::Arc;
-use std::sync::atomic::{AtomicBool, Ordering};
+
+/// The stop flag ([`super::cancel`]), also named here, where solves first took it.
+pub use super::Cancel;
 
 /// How temperatures and densities combine into points.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -142,22 +144,6 @@ struct TemperatureWork {
     densities: Vec<(usize, f64)>,
 }
 
-/// A flag that asks a long computation to stop early (set when its caller gave up, e.g. at a
-/// client's deadline). Cheap to clone.
-#[derive(Debug, Clone, Default)]
-pub struct Cancel(Arc<AtomicBool>);
-
-impl Cancel {
-    /// Asks the computation to stop.
-    pub fn cancel(&self) {
-        self.0.store(true, Ordering::Relaxed);
-    }
-    /// Whether stopping was asked for.
-    pub fn is_cancelled(&self) -> bool {
-        self.0.load(Ordering::Relaxed)
-    }
-}
-
 impl Engine {
     /// Refuses a solve over the point, work or answer-size limits, before any table is built
     /// or matrix allocated.
@@ -196,9 +182,9 @@ impl Engine {
         self.solve_cancellable(query, &Cancel::default())
     }
 
-    /// [`Self::solve`], checking `cancel` before each piece of work (a temperature or part of
-    /// its densities) and stopping with
-    /// [`EngineError::Cancelled`] once it is set.
+    /// [`Self::solve`], checking `cancel` before each table of a build on a custom grid and
+    /// before each point, and stopping with [`EngineError::Cancelled`] once it is set: a
+    /// cancelled solve ends within one point's solve (or one table's build) per thread.
     pub fn solve_cancellable(&self, query: &SolveQuery, cancel: &Cancel) -> Result<SolveAnswer, EngineError> {
         if !(0.0..=1.0).contains(&query.min_line_fraction) {
             return Err(EngineError::invalid(
@@ -231,7 +217,7 @@ impl Engine {
             PointLayout::Grid => temps_k.len().saturating_mul(dens.len()),
         };
         self.admit_solve(query, n_points, inputs)?;
-        let tables = self.species_tables(&loaded, &query.species, query.grid)?;
+        let tables = self.species_tables_cancellable(&loaded, &query.species, query.grid, cancel)?;
         let locate = |j: usize, t: f64| {
             checked_location(&tables.grid, j, t, query.outside).map_err(|e| match e {
                 RuleError::OutsideGrid { .. } => EngineError::OutOfRange(e.to_string()),
@@ -281,23 +267,21 @@ impl Engine {
                 emissivity: 0.0,
             })
             .collect();
+        let shared = PieceInputs {
+            tables: &tables,
+            inputs,
+            line_template: &lines,
+            power_factor,
+            min_line_fraction: query.min_line_fraction,
+            cancel,
+        };
         let solved: Vec<Vec<(usize, PointAnswer)>> = work
             .par_iter()
             .map_init(
                 || Scratch::new(n_levels, tables.tables.len(), inputs.lines.len()),
                 |scratch, w| {
-                    if cancel.is_cancelled() {
-                        return Err(EngineError::Cancelled);
-                    }
-                    solve_at_temperature(
-                        scratch,
-                        &tables,
-                        inputs,
-                        &lines,
-                        w,
-                        power_factor,
-                        query.min_line_fraction,
-                    )
+                    cancel.check()?;
+                    solve_at_temperature(scratch, &shared, w)
                 },
             )
             .collect::<Result<_, EngineError>>()?;
@@ -375,16 +359,34 @@ impl Scratch {
     }
 }
 
-/// Evaluates every collisional rate at one temperature and solves each density there.
-fn solve_at_temperature(
-    scratch: &mut Scratch,
-    tables: &SpeciesTables,
-    inputs: &SolveInputs,
-    line_template: &[LineAnswer],
-    work: &TemperatureWork,
+/// What every piece of work of one solve reads.
+#[derive(Clone, Copy)]
+struct PieceInputs<'a> {
+    tables: &'a SpeciesTables,
+    inputs: &'a SolveInputs,
+    /// Every line with its fixed part filled in (emissivity 0).
+    line_template: &'a [LineAnswer],
+    /// Watt to the answer's power unit.
     power_factor: f64,
     min_line_fraction: f64,
+    cancel: &'a Cancel,
+}
+
+/// Evaluates every collisional rate at one temperature and solves each density there,
+/// checking the stop flag before each density (a point of a large species is a large solve).
+fn solve_at_temperature(
+    scratch: &mut Scratch,
+    shared: &PieceInputs<'_>,
+    work: &TemperatureWork,
 ) -> Result<Vec<(usize, PointAnswer)>, EngineError> {
+    let PieceInputs {
+        tables,
+        inputs,
+        line_template,
+        power_factor,
+        min_line_fraction,
+        cancel,
+    } = *shared;
     let Scratch {
         workspace,
         rates,
@@ -428,6 +430,7 @@ fn solve_at_temperature(
     )?);
     let mut out = Vec::with_capacity(work.densities.len());
     for &(index, ne) in &work.densities {
+        cancel.check()?;
         let view = workspace.solve(ne).map_err(|reason| EngineError::Degenerate {
             temperature_k: work.t_k,
             density_per_cm3: ne,

@@ -4,11 +4,16 @@
 //! each loaded dataset and are never evicted, so normal traffic never rebuilds them.
 
 use super::SpeciesTables;
-use quick_cache::sync::Cache;
+use quick_cache::sync::{Cache, GuardResult};
 use quick_cache::{DefaultHashBuilder, Lifecycle, OptionsBuilder, Weighter};
 use ratewell_proto::rule::LogGrid;
 use std::sync::Arc;
 use std::sync::atomic::{AtomicU64, Ordering};
+use std::time::Duration;
+
+/// How often a caller waiting for another caller's build of the same tables checks whether it
+/// is still wanted.
+pub const WAIT_POLL: Duration = Duration::from_millis(20);
 
 /// Identifies one cache entry.
 #[derive(Debug, Clone, PartialEq, Eq, Hash)]
@@ -113,24 +118,34 @@ impl TableCache {
     }
 
     /// The tables under `key`, built by `build` on a miss. Concurrent callers asking for the
-    /// same key wait for one build and share its result. A table set heavier than the whole
-    /// budget is returned but not kept.
+    /// same key wait for one build and share its result; a waiter asks `still_wanted` every
+    /// [`WAIT_POLL`] and gives up with its error. A build that fails (or stops) leaves no entry:
+    /// the next waiter, if any, builds in its turn. A table set heavier than the whole budget
+    /// is returned but not kept.
     pub fn get_or_build<E>(
         &self,
         key: TableKey,
         build: impl FnOnce() -> Result<Arc<SpeciesTables>, E>,
+        still_wanted: impl Fn() -> Result<(), E>,
     ) -> Result<Arc<SpeciesTables>, E> {
-        let mut oversized = false;
-        let result = self.cache.get_or_insert_with(&key, || {
-            let tables = build()?;
-            oversized = ByBytes.weight(&key, &tables) > self.capacity_bytes;
-            Ok(tables)
-        });
-        if oversized {
+        let guard = loop {
+            match self.cache.get_value_or_guard(&key, Some(WAIT_POLL)) {
+                GuardResult::Value(tables) => return Ok(tables),
+                GuardResult::Guard(guard) => break guard,
+                GuardResult::Timeout => still_wanted()?,
+            }
+        };
+        // On an error the guard drops uninserted, so the placeholder goes (or passes to a
+        // waiter) and nothing half-built is ever visible.
+        let tables = build()?;
+        if ByBytes.weight(&key, &tables) > self.capacity_bytes {
             // quick_cache rejects it and reports it as an eviction; count it apart.
             self.uncached.fetch_add(1, Ordering::Relaxed);
         }
-        result
+        // Err only when the placeholder was removed meanwhile (remove_dataset of a replaced
+        // dataset): the caller still gets its tables.
+        let _ = guard.insert(Arc::clone(&tables));
+        Ok(tables)
     }
 
     /// Drops every entry of the dataset with `content_hash`.
@@ -184,7 +199,9 @@ mod tests {
         let one = tables(20, 100).table_bytes() as u64;
         let cache = TableCache::new(5 * one);
         for i in 0..40 {
-            let t = cache.get_or_build::<()>(key(i), || Ok(tables(20, 100))).unwrap();
+            let t = cache
+                .get_or_build::<()>(key(i), || Ok(tables(20, 100)), || Ok(()))
+                .unwrap();
             assert_eq!(t.tables.len(), 20);
             let s = cache.stats();
             assert!(s.bytes <= s.capacity_bytes, "{s:?}");
@@ -200,12 +217,61 @@ mod tests {
     #[test]
     fn a_hit_does_not_build_and_an_oversized_set_is_not_kept() {
         let cache = TableCache::new(1 << 20);
-        cache.get_or_build::<()>(key(0), || Ok(tables(2, 10))).unwrap();
-        let again = cache.get_or_build::<()>(key(0), || panic!("built twice"));
+        cache
+            .get_or_build::<()>(key(0), || Ok(tables(2, 10)), || Ok(()))
+            .unwrap();
+        let again = cache.get_or_build::<()>(key(0), || panic!("built twice"), || Ok(()));
         assert!(again.is_ok());
         let small = TableCache::new(100);
-        small.get_or_build::<()>(key(1), || Ok(tables(20, 100))).unwrap();
+        small
+            .get_or_build::<()>(key(1), || Ok(tables(20, 100)), || Ok(()))
+            .unwrap();
         let s = small.stats();
         assert_eq!((s.entries, s.uncached, s.evictions), (0, 1, 0), "{s:?}");
+    }
+
+    #[test]
+    fn a_failed_build_leaves_nothing_and_a_waiter_can_give_up() {
+        let cache = TableCache::new(1 << 20);
+        let failed = cache.get_or_build(key(0), || Err("stopped"), || Ok(()));
+        assert!(matches!(failed, Err("stopped")));
+        assert_eq!(cache.stats().entries, 0, "a failed build leaves no entry");
+        cache
+            .get_or_build::<()>(key(0), || Ok(tables(2, 10)), || Ok(()))
+            .expect("the next caller builds");
+        assert_eq!(cache.stats().entries, 1);
+
+        // A second caller waits for the first one's build, and leaves when no longer wanted.
+        let (started_tx, started_rx) = std::sync::mpsc::channel();
+        let (release_tx, release_rx) = std::sync::mpsc::channel::<()>();
+        let shared = &cache;
+        std::thread::scope(|s| {
+            let builder = s.spawn(move || {
+                shared.get_or_build::<()>(
+                    key(1),
+                    || {
+                        started_tx.send(()).expect("signal");
+                        release_rx.recv().expect("release");
+                        Ok(tables(2, 10))
+                    },
+                    || Ok(()),
+                )
+            });
+            started_rx.recv().expect("the build started");
+            let asked = AtomicU64::new(0);
+            let gave_up = shared.get_or_build(
+                key(1),
+                || panic!("only the first caller builds"),
+                || {
+                    asked.fetch_add(1, Ordering::Relaxed);
+                    Err("gone")
+                },
+            );
+            assert!(matches!(gave_up, Err("gone")));
+            assert_eq!(asked.load(Ordering::Relaxed), 1);
+            release_tx.send(()).expect("release");
+            assert!(builder.join().expect("builder thread").is_ok());
+        });
+        assert_eq!(cache.stats().entries, 2);
     }
 }

@@ -57,16 +57,34 @@ pub enum TableError {
     /// The evaluation rule refused the grid or table.
     #[error(transparent)]
     Rule(#[from] RuleError),
+    /// The build was asked to stop before its last table (its caller gave up); nothing of it
+    /// is kept.
+    #[error("table build stopped before it finished: the caller gave up")]
+    Stopped,
 }
 
 /// Builds every collisional transition's table for `species` on `grid`, in parallel.
 pub fn build_species_tables(species: &Species, grid: LogGrid) -> Result<SpeciesTables, TableError> {
+    build_species_tables_until(species, grid, &|| false)
+}
+
+/// [`build_species_tables`], asking `stop` before each table and ending with
+/// [`TableError::Stopped`] once it answers true: a build whose caller gave up ends within one
+/// table's work per thread.
+pub fn build_species_tables_until(
+    species: &Species,
+    grid: LogGrid,
+    stop: &(dyn Fn() -> bool + Sync),
+) -> Result<SpeciesTables, TableError> {
     let range = (grid.t_min_k(), grid.t_max_k());
     let samples = GridSamples::new(grid);
     let tables = species
         .collisions
         .par_iter()
         .map(|transition| {
+            if stop() {
+                return Err(TableError::Stopped);
+            }
             let ts = sources::transition_source(species, transition, range)?;
             build_table_on(&samples, ts.header, ts.source.as_ref()).map_err(|e| match e {
                 TableError::Evaluation(message) => TableError::Source {
@@ -117,4 +135,29 @@ fn cautions_for(
         ));
     }
     cautions
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use std::sync::atomic::{AtomicUsize, Ordering};
+
+    #[test]
+    fn a_build_asked_to_stop_ends_before_its_last_table() {
+        let dataset = crate::dataset::demo_dataset().expect("demo");
+        let species = dataset.species("Mk II").expect("Mk II");
+        let grid = LogGrid::from_range(10.0, 1e9, 20).unwrap();
+        let asked = AtomicUsize::new(0);
+        let stopped =
+            build_species_tables_until(species, grid, &|| asked.fetch_add(1, Ordering::Relaxed) >= 3);
+        assert!(matches!(stopped, Err(TableError::Stopped)), "{stopped:?}");
+        let asked = asked.into_inner();
+        assert!(
+            asked < species.collisions.len(),
+            "asked {asked} times for {} tables: the build went on",
+            species.collisions.len()
+        );
+        let whole = build_species_tables_until(species, grid, &|| false).expect("a build not stopped");
+        assert_eq!(whole.tables.len(), species.collisions.len());
+    }
 }
