@@ -197,14 +197,14 @@ impl ClientConfig {
         if let Some(token) = &self.token {
             crate::transport::check_token(token)?;
         }
-        if let Some(tls) = &self.tls {
-            if !tls.ca_file.is_file() {
-                return Err(ClientError::invalid(
-                    "tls.ca_file",
-                    tls.ca_file.display(),
-                    "must be a readable PEM file of the certificate authority to trust",
-                ));
-            }
+        if let Some(tls) = &self.tls
+            && !tls.ca_file.is_file()
+        {
+            return Err(ClientError::invalid(
+                "tls.ca_file",
+                tls.ca_file.display(),
+                "must be a readable PEM file of the certificate authority to trust",
+            ));
         }
         if self.max_message_bytes < 1024 {
             return Err(ClientError::invalid(
