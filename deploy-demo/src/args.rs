@@ -87,6 +87,16 @@ pub(crate) struct RunArgs {
     /// Time budget of each server call, seconds (> 0, at most 3600).
     #[arg(long, default_value_t = 10.0, allow_negative_numbers = true)]
     pub(crate) timeout_s: f64,
+    /// Further client settings as `key=value;...`, the same keys as every ratewell client
+    /// (token_file, tls_ca_file, tls_server_name, wait_for_server_s, call_timeout_s,
+    /// fall_back_to_fetched_tables).
+    #[arg(
+        long,
+        env = "RATEWELL_CLIENT_OPTIONS",
+        value_name = "OPTIONS",
+        default_value = ""
+    )]
+    pub(crate) client_options: String,
 }
 
 /// `verify` arguments.
@@ -114,6 +124,8 @@ pub(crate) struct JobPlan {
     pub(crate) solve_every: usize,
     /// Time budget of each call.
     pub(crate) call_timeout: Duration,
+    /// `key=value;...` client settings (checked when the client is made).
+    pub(crate) client_options: String,
     /// No progress lines.
     pub(crate) quiet: bool,
     /// Where the tables come from.
@@ -179,6 +191,7 @@ impl RunArgs {
             track,
             solve_every: self.solve_every,
             call_timeout: Duration::from_secs_f64(self.timeout_s),
+            client_options: self.client_options.clone(),
             quiet: self.quiet,
             tables_from: match &self.table_file {
                 Some(path) => TablesFrom::File(path.clone()),

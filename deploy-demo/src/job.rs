@@ -29,6 +29,7 @@ pub(crate) fn run(plan: &JobPlan) -> Result<Summary, JobError> {
             let mut config = ClientConfig::new(plan.server.clone())
                 .with_dataset(plan.dataset.clone())
                 .with_call_timeout(plan.call_timeout);
+            config = ratewell_client::apply_options(config, &plan.client_options)?;
             if let Some(dir) = cache_dir {
                 config = config.with_cache_dir(dir.clone());
             }

@@ -68,6 +68,10 @@ pub struct Config {
     pub request_timeout: Duration,
     /// HTTP/2 keepalive ping interval.
     pub keepalive_interval: Duration,
+    /// Close each client connection gracefully (HTTP/2 GOAWAY: calls in flight finish) after
+    /// it has been open this long, so clients reconnect and spread over replicas added since;
+    /// `None`: connections live as long as their clients.
+    pub max_connection_age: Option<Duration>,
     /// HTTP/2 keepalive ping timeout.
     pub keepalive_timeout: Duration,
     /// After health turns NOT_SERVING at shutdown, wait this long before refusing new calls.
@@ -105,6 +109,7 @@ impl Default for Config {
             limits: engine.limits,
             request_timeout: Duration::from_secs(120),
             keepalive_interval: Duration::from_secs(30),
+            max_connection_age: None,
             keepalive_timeout: Duration::from_secs(10),
             drain: Duration::from_millis(500),
             shutdown_grace: Duration::from_secs(10),
@@ -167,6 +172,10 @@ pub struct Flags {
     /// Longest wait for in-flight calls at shutdown, seconds [default: 10].
     #[arg(long, env = "RATEWELL_SHUTDOWN_GRACE_S")]
     pub shutdown_grace_s: Option<f64>,
+    /// Close client connections gracefully after this many seconds, so clients reconnect and
+    /// spread over new replicas (0: never) [default: 0].
+    #[arg(long, env = "RATEWELL_MAX_CONNECTION_AGE_S")]
+    pub max_connection_age_s: Option<f64>,
     /// Byte budget of tables cached on non-default grids [default: 268435456].
     #[arg(long, env = "RATEWELL_TABLE_CACHE_BYTES")]
     pub table_cache_bytes: Option<u64>,
@@ -224,6 +233,7 @@ struct FileSettings {
     request_timeout_s: Option<f64>,
     keepalive_interval_s: Option<f64>,
     keepalive_timeout_s: Option<f64>,
+    max_connection_age_s: Option<f64>,
     drain_s: Option<f64>,
     shutdown_grace_s: Option<f64>,
     benchmark_endpoints: Option<bool>,
@@ -245,6 +255,12 @@ fn seconds(field: &'static str, s: f64) -> Result<Duration, ConfigError> {
             allowed: "must be a number of seconds within [0, 86400]",
         })
     }
+}
+
+/// `max_connection_age_s`: 0 is off, anything else a number of seconds.
+fn connection_age(s: f64) -> Result<Option<Duration>, ConfigError> {
+    let age = seconds("max_connection_age_s", s)?;
+    Ok((!age.is_zero()).then_some(age))
 }
 
 impl Config {
@@ -290,6 +306,9 @@ impl Config {
         }
         if let Some(v) = flags.shutdown_grace_s {
             c.shutdown_grace = seconds("shutdown_grace_s", v)?;
+        }
+        if let Some(v) = flags.max_connection_age_s {
+            c.max_connection_age = connection_age(v)?;
         }
         if let Some(v) = &flags.tokens_file {
             c.tokens_file = Some(v.clone());
@@ -411,6 +430,9 @@ impl Config {
             if let Some(s) = value {
                 *slot = seconds(field, s)?;
             }
+        }
+        if let Some(v) = f.max_connection_age_s {
+            self.max_connection_age = connection_age(v)?;
         }
         if let Some(v) = f.benchmark_endpoints {
             self.benchmark_endpoints = v;

@@ -222,6 +222,12 @@ pub async fn serve(
         .layer(crate::api::wire_status::WireStatusLayer)
         .layer(tonic::service::InterceptorLayer::new(crate::api::record_arrival))
         .layer(AuthLayer::new(token_gate.clone()));
+    if let Some(age) = config.max_connection_age {
+        // Calls in flight when a connection reaches its age finish (up to the request timeout).
+        builder = builder
+            .max_connection_age(age)
+            .max_connection_age_grace(config.request_timeout);
+    }
     if let (Some(cert), Some(key)) = (&config.tls_cert_file, &config.tls_key_file) {
         builder = builder.tls_config(crate::tls::server_tls(cert, key)?)?;
     }
@@ -257,7 +263,7 @@ pub async fn serve(
         Err(e) => Some(Err(e)),
     });
     tracing::info!(
-        listen = ?local,
+        listen = %local.map_or_else(String::new, |a| a.to_string()),
         ready_after_ms = started.elapsed().as_millis() as u64,
         max_message_bytes = config.max_message_bytes,
         max_in_flight = config.max_in_flight,

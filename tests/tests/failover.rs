@@ -229,3 +229,23 @@ async fn with_every_server_gone_fetched_tables_answer_with_the_same_bits() {
     let error = client.lookup_rates(&other).await.expect_err("no tables for it");
     assert!(error.is_unreachable(), "{error}");
 }
+
+#[tokio::test(flavor = "multi_thread", worker_threads = 2)]
+async fn connections_closed_for_age_lose_no_call() {
+    // The server ends every connection after 0.3 s (HTTP/2 GOAWAY; calls in flight finish), so
+    // clients reconnect and spread over replicas; a client in a tight loop sees no error.
+    let server = ServerProcess::spawn(server_binary!(), &["--max-connection-age-s", "0.3"]);
+    let client = resilient(vec![server.url()]);
+    let reference = client.lookup_rates(&query()).await.expect("reference answer");
+    let started = Instant::now();
+    let mut calls = 0;
+    while started.elapsed() < Duration::from_secs(3) {
+        let answer = client
+            .lookup_rates(&query())
+            .await
+            .expect("no call lost to an aged connection");
+        assert_same_bits(&answer, &reference, "across connection ages");
+        calls += 1;
+    }
+    assert!(calls > 100, "{calls} calls in 3 s");
+}

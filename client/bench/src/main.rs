@@ -6,6 +6,7 @@
 //!   fetch, local evaluation through this client library, batched lookups against the echo RPC
 //!   at equal payload, and small-call latency against the empty RPC with 1 and 64 calls in
 //!   flight. Writes `<work>/rust.json` and the fetched tables for the Python baselines.
+//! - `ratewell-bench soak`: many concurrent clients against one server process (see `soak`).
 //! - `ratewell-bench report`: joins `core.json` (service-side measurements), `rust.json` and
 //!   `python.json` (numpy / scipy baselines), prints every ratio with its target and PASS or
 //!   FALL SHORT, and writes `results.json`, `results.md` and the plot `performance.svg`.
@@ -14,6 +15,7 @@ mod bindings;
 mod measure;
 mod plot;
 mod report;
+mod soak;
 
 use clap::{Parser, Subcommand};
 use std::path::PathBuf;
@@ -50,6 +52,20 @@ enum Command {
         #[arg(long)]
         latency_only: bool,
     },
+    /// Soak (not CI): many clients, each on its own connection, against one server for a
+    /// while; fails on any error or on server memory growth over 10%. Run it through
+    /// scripts/perf/soak.sh (raises the open-files limit first).
+    Soak {
+        /// The ratewell-server binary (a release build).
+        #[arg(long)]
+        server_bin: PathBuf,
+        /// Concurrent clients.
+        #[arg(long, default_value_t = 1000)]
+        clients: usize,
+        /// Length of the lookup phase, seconds.
+        #[arg(long, default_value_t = 60)]
+        seconds: u64,
+    },
     /// Join the measurements, print the ratio table, write results and the plot.
     Report {
         /// Work folder holding core.json, rust.json and python.json.
@@ -78,6 +94,11 @@ fn main() -> ExitCode {
             }
         }
         Command::Report { work, command_line } => report::run(&work, &command_line),
+        Command::Soak {
+            server_bin,
+            clients,
+            seconds,
+        } => soak::run(&server_bin, clients, seconds),
     };
     match result {
         Ok(()) => ExitCode::SUCCESS,

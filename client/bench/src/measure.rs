@@ -33,9 +33,9 @@ pub(crate) const EVAL_SPECIES: &str = "Bm I";
 const BATCH_SIZES: [usize; 7] = [1, 10, 100, 1000, 10_000, 100_000, 1_000_000];
 
 /// A server child process, killed when dropped.
-struct Server {
+pub(crate) struct Server {
     child: Child,
-    address: String,
+    pub(crate) address: String,
     log: Arc<Mutex<Vec<String>>>,
     started: Instant,
 }
@@ -49,12 +49,12 @@ impl Drop for Server {
 
 impl Server {
     /// The child's process id.
-    fn pid(&self) -> u32 {
+    pub(crate) fn pid(&self) -> u32 {
         self.child.id()
     }
 
     /// Starts `bin` on a free loopback port with the benchmark endpoints and `extra` flags.
-    fn start(bin: &Path, extra: &[&str]) -> Result<Self, Failure> {
+    pub(crate) fn start(bin: &Path, extra: &[&str]) -> Result<Self, Failure> {
         let port = std::net::TcpListener::bind("127.0.0.1:0")?.local_addr()?.port();
         let listen = format!("127.0.0.1:{port}");
         let started = Instant::now();
@@ -97,7 +97,12 @@ impl Server {
     }
 
     /// Seconds from process start until `species` of `dataset` answers a lookup.
-    async fn wait_ready(&mut self, dataset: &str, species: &str, limit: Duration) -> Result<f64, Failure> {
+    pub(crate) async fn wait_ready(
+        &mut self,
+        dataset: &str,
+        species: &str,
+        limit: Duration,
+    ) -> Result<f64, Failure> {
         loop {
             if let Some(status) = self.child.try_wait()? {
                 return Err(format!("server exited with {status}: {}", self.log_text()).into());
@@ -120,7 +125,7 @@ impl Server {
     }
 
     /// Resident and peak memory of the server process, bytes (Linux /proc).
-    fn memory_bytes(&self) -> Value {
+    pub(crate) fn memory_bytes(&self) -> Value {
         let status = std::fs::read_to_string(format!("/proc/{}/status", self.child.id())).unwrap_or_default();
         let field = |name: &str| {
             status
@@ -702,7 +707,7 @@ where
 }
 
 /// (p50, p99) of `samples`, seconds.
-fn percentiles(samples: &mut [f64]) -> (f64, f64) {
+pub(crate) fn percentiles(samples: &mut [f64]) -> (f64, f64) {
     samples.sort_by(f64::total_cmp);
     let at = |q: f64| samples[((samples.len() - 1) as f64 * q).round() as usize];
     (at(0.50), at(0.99))
