@@ -12,6 +12,8 @@
 //!   holding copies of the repository's datasets and a deliberately broken one; removed on drop.
 //! - [`dataset_text`]: the repository's dataset files read as plain TOML, so expectations come
 //!   from the text rather than from the server's loader.
+//! - [`fuzz`]: a seeded mutator of request bytes and dataset texts for the fuzz runs.
+//! - [`raw`]: [`raw::RawCodec`], raw bytes on the wire (malformed and fuzzed bodies).
 //! - [`requests`]: builders for the wire requests the tests send, and status assertions
 //!   (code, key words of the message, tonic-types BadRequest field violations).
 
@@ -19,6 +21,8 @@ pub mod child;
 pub mod codata;
 pub mod data;
 pub mod dataset_text;
+pub mod fuzz;
+pub mod raw;
 pub mod requests;
 pub mod server;
 

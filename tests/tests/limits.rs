@@ -4,12 +4,11 @@
 //! give a small INVALID_ARGUMENT; malformed bodies give INVALID_ARGUMENT; inputs that make a
 //! solve degenerate give OUT_OF_RANGE naming the stable range, never INTERNAL.
 
-use bytes::{Buf, BufMut};
+use ratewell_e2e::raw::RawCodec;
 use ratewell_e2e::requests::{MK_II, MK_III, assert_status, demo, lookup, refused, solve};
 use ratewell_e2e::{TempDataDir, TestServer, repo_path, test_config};
 use ratewell_proto::pb;
 use tonic::Code;
-use tonic::codec::{Codec, DecodeBuf, Decoder, EncodeBuf, Encoder};
 use tonic::codegen::http::uri::PathAndQuery;
 use tonic_types::StatusExt;
 
@@ -239,41 +238,6 @@ async fn degenerate_solves_are_out_of_range_naming_the_stable_range() {
         let answer = server.populations().solve_populations(req).await.expect("solved");
         let sum: f64 = answer.into_inner().points[0].fractions.iter().sum();
         assert!((sum - 1.0).abs() < 1e-9, "{sum}");
-    }
-}
-
-/// Sends and receives raw bytes, so a test can put any body on the wire.
-#[derive(Debug, Clone, Copy, Default)]
-struct RawCodec;
-
-impl Codec for RawCodec {
-    type Encode = Vec<u8>;
-    type Decode = Vec<u8>;
-    type Encoder = RawCodec;
-    type Decoder = RawCodec;
-    fn encoder(&mut self) -> RawCodec {
-        RawCodec
-    }
-    fn decoder(&mut self) -> RawCodec {
-        RawCodec
-    }
-}
-
-impl Encoder for RawCodec {
-    type Item = Vec<u8>;
-    type Error = tonic::Status;
-    fn encode(&mut self, item: Vec<u8>, dst: &mut EncodeBuf<'_>) -> Result<(), tonic::Status> {
-        dst.put_slice(&item);
-        Ok(())
-    }
-}
-
-impl Decoder for RawCodec {
-    type Item = Vec<u8>;
-    type Error = tonic::Status;
-    fn decode(&mut self, src: &mut DecodeBuf<'_>) -> Result<Option<Vec<u8>>, tonic::Status> {
-        let n = src.remaining();
-        Ok(Some(src.copy_to_bytes(n).to_vec()))
     }
 }
 
