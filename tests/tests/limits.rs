@@ -8,6 +8,7 @@ use ratewell_e2e::raw::RawCodec;
 use ratewell_e2e::requests::{MK_II, MK_III, assert_status, demo, lookup, refused, solve};
 use ratewell_e2e::{TempDataDir, TestServer, repo_path, test_config};
 use ratewell_proto::pb;
+use std::time::Duration;
 use tonic::Code;
 use tonic::codegen::http::uri::PathAndQuery;
 use tonic_types::StatusExt;
@@ -306,4 +307,69 @@ async fn malformed_bodies_are_invalid_argument_on_every_rpc() {
         .lookup_rates(lookup(MK_III, vec![1e4]))
         .await
         .expect("still serving");
+}
+
+#[tokio::test(flavor = "multi_thread", worker_threads = 2)]
+async fn idle_connections_that_never_speak_do_not_lock_callers_out() {
+    use ratewell_client::{Client, ClientConfig, DatasetRef, RateQuery, RetryPolicy};
+    let mut config = test_config();
+    config.limits.handshake_timeout_s = 1.0;
+    let server = TestServer::start_with(config).await;
+    // More idle sockets than the connection limit (1,000), none sending the HTTP/2 preface.
+    let mut idle = Vec::with_capacity(1100);
+    for _ in 0..1100 {
+        idle.push(
+            tokio::net::TcpStream::connect(server.addr())
+                .await
+                .expect("connect"),
+        );
+    }
+    // A real caller gets answers: the sockets over the limit were closed at accept, the others
+    // at the handshake timeout.
+    let client = Client::new(
+        ClientConfig::new(server.url())
+            .with_dataset(DatasetRef::new("demo").expect("id"))
+            .with_retry(RetryPolicy {
+                max_attempts: 50,
+                initial_backoff: Duration::from_millis(20),
+                max_backoff: Duration::from_millis(200),
+                deadline: Duration::from_secs(20),
+                ..RetryPolicy::default()
+            }),
+    )
+    .expect("client");
+    let started = std::time::Instant::now();
+    let answer = client
+        .lookup_rates(&RateQuery::new(MK_III, vec![1e4]))
+        .await
+        .expect("answered despite 1,100 idle sockets");
+    assert_eq!(answer.temperature_count, 1);
+    // Within a few handshake timeouts, not the request timeout.
+    assert!(
+        started.elapsed() < Duration::from_secs(10),
+        "{:?}",
+        started.elapsed()
+    );
+    // The idle sockets were closed by the server: reading (past the server's own HTTP/2
+    // settings frame) ends, with the end of the stream or a reset, instead of waiting.
+    let mut closed = 0;
+    for socket in idle.iter_mut().take(50) {
+        let mut buf = [0u8; 16];
+        let read = async {
+            loop {
+                socket.readable().await?;
+                match socket.try_read(&mut buf) {
+                    Ok(0) => return Ok(0),
+                    Ok(_) => continue,
+                    Err(e) if e.kind() == std::io::ErrorKind::WouldBlock => continue,
+                    Err(e) => return Err(e),
+                }
+            }
+        };
+        match tokio::time::timeout(Duration::from_secs(3), read).await {
+            Ok(_) => closed += 1,
+            Err(_) => {}
+        }
+    }
+    assert_eq!(closed, 50, "idle sockets closed by the server");
 }
