@@ -1,8 +1,13 @@
 //! The server layer that applies a [`Gate`] to every call before routing: a refused call is
 //! answered UNAUTHENTICATED at once; an admitted one carries its [`Caller`] in the extensions.
+//!
+//! Every refused Admin call is written to the audit log. Refused calls to the other services
+//! (with `auth_scope = all`) can come in floods from one misconfigured job array, so they are
+//! logged at most once per ten seconds, with the count refused since the last line.
 
 use super::Gate;
 use crate::api::status::refusal_status;
+use crate::connections::RateLimitedWarning;
 use std::sync::Arc;
 use std::task::{Context, Poll};
 
@@ -19,16 +24,23 @@ fn peer_of(extensions: &http::Extensions) -> Option<std::net::SocketAddr> {
         })
 }
 
+/// Paths of the Admin service, whose refusals are always audited.
+const ADMIN_PREFIX: &str = "/ratewell.v1.Admin/";
+
 /// Tower layer applying `gate` to every request.
 #[derive(Debug, Clone)]
 pub struct AuthLayer {
     gate: Arc<Gate>,
+    refused: Arc<RateLimitedWarning>,
 }
 
 impl AuthLayer {
     /// The layer over `gate`.
     pub fn new(gate: Gate) -> Self {
-        Self { gate: Arc::new(gate) }
+        Self {
+            gate: Arc::new(gate),
+            refused: Arc::default(),
+        }
     }
 }
 
@@ -39,6 +51,7 @@ impl<S> tower_layer::Layer<S> for AuthLayer {
         AuthService {
             inner,
             gate: Arc::clone(&self.gate),
+            refused: Arc::clone(&self.refused),
         }
     }
 }
@@ -48,6 +61,7 @@ impl<S> tower_layer::Layer<S> for AuthLayer {
 pub struct AuthService<S> {
     inner: S,
     gate: Arc<Gate>,
+    refused: Arc<RateLimitedWarning>,
 }
 
 impl<S, B, RB> tower_service::Service<http::Request<B>> for AuthService<S>
@@ -78,13 +92,25 @@ where
             }
             Err(refusal) => {
                 let peer = peer_of(request.extensions());
-                tracing::warn!(
-                    target: "ratewell::audit",
-                    peer = ?peer,
-                    method = ?request.uri().path(),
-                    refused = %refusal,
-                    "call refused before its handler"
-                );
+                let path = request.uri().path();
+                if path.starts_with(ADMIN_PREFIX) {
+                    tracing::warn!(
+                        target: "ratewell::audit",
+                        peer = ?peer,
+                        method = ?path,
+                        refused = %refusal,
+                        "call refused before its handler"
+                    );
+                } else if let Some(count) = self.refused.due() {
+                    tracing::warn!(
+                        target: "ratewell::audit",
+                        peer = ?peer,
+                        method = ?path,
+                        refused = %refusal,
+                        refused_since_last_line = count,
+                        "calls refused before their handlers (at most one line per 10 s; this is the latest)"
+                    );
+                }
                 futures::future::Either::Left(futures::future::ready(
                     Ok(refusal_status(&refusal).into_http()),
                 ))
