@@ -352,7 +352,8 @@ impl Client {
         let key = table_key(dataset, species, grid);
         let folder = self.inner.config.cache_dir.clone();
         let wait = self.inner.config.retry.deadline + self.inner.config.call_timeout;
-        self.inner
+        let tables = self
+            .inner
             .cache
             .get_or_fetch(key.clone(), || async move {
                 match folder {
@@ -365,7 +366,11 @@ impl Client {
                     None => self.fetch_tables_uncached(dataset, species, grid).await,
                 }
             })
-            .await
+            .await?;
+        // Cached sets too: a pin added since (a tables digest, which is not part of the cache
+        // key) holds for every set handed out.
+        dataset.check_stamp("FetchTables", Some(tables.stamp()))?;
+        Ok(tables)
     }
 
     async fn fetch_tables_uncached(

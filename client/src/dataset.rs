@@ -18,6 +18,7 @@ pub struct DatasetRef {
     id: String,
     version: Option<String>,
     pinned_content_hash: Option<String>,
+    pinned_tables_digest: Option<String>,
 }
 
 impl DatasetRef {
@@ -31,6 +32,7 @@ impl DatasetRef {
             id,
             version: None,
             pinned_content_hash: None,
+            pinned_tables_digest: None,
         })
     }
 
@@ -53,6 +55,27 @@ impl DatasetRef {
         }
         self.pinned_content_hash = Some(h);
         Ok(self)
+    }
+
+    /// Pins the tables digest (64 hex digits, any case): answers whose tables were built
+    /// differently, even from the same data, are refused. Checked here, on every answer and on
+    /// every table set taken from a cache (servers do not see this pin).
+    pub fn pin_tables_digest(mut self, digest: &str) -> Result<Self, ClientError> {
+        let d = digest.trim().to_ascii_lowercase();
+        if d.len() != HASH_HEX_LEN || !d.bytes().all(|b| b.is_ascii_hexdigit()) {
+            return Err(ClientError::invalid(
+                "pin-tables-digest",
+                format!("{digest:?}"),
+                format!("must be {HASH_HEX_LEN} hexadecimal digits (a blake3 tables digest)"),
+            ));
+        }
+        self.pinned_tables_digest = Some(d);
+        Ok(self)
+    }
+
+    /// The pinned tables digest (lower-case hex), if any.
+    pub fn pinned_tables_digest(&self) -> Option<&str> {
+        self.pinned_tables_digest.as_deref()
     }
 
     /// The dataset id.
@@ -109,6 +132,14 @@ impl DatasetRef {
             return Err(ClientError::HashMismatch {
                 expected: expected.clone(),
                 got: stamp.content_hash.clone(),
+                dataset: stamp_label(stamp),
+            });
+        }
+        let digest_differs = |expected: &&String| !stamp.tables_digest.eq_ignore_ascii_case(expected);
+        if let Some(expected) = self.pinned_tables_digest.as_ref().filter(digest_differs) {
+            return Err(ClientError::TablesDigestMismatch {
+                expected: expected.clone(),
+                got: stamp.tables_digest.clone(),
                 dataset: stamp_label(stamp),
             });
         }

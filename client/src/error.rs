@@ -30,6 +30,17 @@ pub enum ClientError {
         /// "id@version" of the dataset that answered.
         dataset: String,
     },
+    /// A response whose tables digest differs from the pinned one: the same data, perhaps, but
+    /// tables built differently (another build of the server). The answer is discarded.
+    #[error("dataset {dataset}: tables digest {got} differs from the pinned {expected}; answer refused")]
+    TablesDigestMismatch {
+        /// The pinned tables digest.
+        expected: String,
+        /// The tables digest the response carried.
+        got: String,
+        /// "id@version" of the dataset that answered.
+        dataset: String,
+    },
     /// The server itself refused the request because the pinned hash differs (FAILED_PRECONDITION).
     #[error("dataset {dataset}: server refused the pinned content hash {expected}: {message}")]
     PinRefused {
@@ -155,6 +166,7 @@ impl ClientError {
         match self {
             ClientError::InvalidArgument { .. } | ClientError::UnknownTransition { .. } => 2,
             ClientError::HashMismatch { .. }
+            | ClientError::TablesDigestMismatch { .. }
             | ClientError::PinRefused { .. }
             | ClientError::StampMismatch { .. } => 3,
             ClientError::Status { .. }

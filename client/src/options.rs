@@ -3,7 +3,8 @@
 //! over it). One parser, so every language accepts the same keys with the same checks.
 //!
 //! Keys: `token_file`, `tls_ca_file`, `tls_server_name`, `wait_for_server_s`,
-//! `call_timeout_s`, `fall_back_to_fetched_tables` (`true`/`false`/`1`/`0`).
+//! `call_timeout_s`, `fall_back_to_fetched_tables` (`true`/`false`/`1`/`0`),
+//! `pin_tables_digest` (64 hex digits; needs the configuration's dataset).
 
 use crate::config::{ClientConfig, TlsSettings};
 use crate::error::ClientError;
@@ -17,6 +18,7 @@ pub const OPTION_KEYS: &[&str] = &[
     "wait_for_server_s",
     "call_timeout_s",
     "fall_back_to_fetched_tables",
+    "pin_tables_digest",
 ];
 
 /// Longest time accepted by the `*_s` keys, seconds (one day).
@@ -46,6 +48,12 @@ pub fn apply_options(mut config: ClientConfig, text: &str) -> Result<ClientConfi
             "token_file" => config = config.with_token_file(value)?,
             "tls_ca_file" => config = config.with_tls(TlsSettings::new(value)),
             "tls_server_name" => server_name = Some(value.to_string()),
+            "pin_tables_digest" => {
+                let dataset = config.dataset.take().ok_or_else(|| {
+                    ClientError::invalid(&field, format!("{value:?}"), "needs a dataset to pin")
+                })?;
+                config.dataset = Some(dataset.pin_tables_digest(value)?);
+            }
             "wait_for_server_s" => config = config.with_wait_for_server(seconds(value)?),
             "call_timeout_s" => {
                 let t = seconds(value)?;

@@ -207,3 +207,57 @@ async fn a_pin_on_the_newest_version_is_refused_once_a_newer_one_is_loaded() {
         .expect("old version by name");
     assert_eq!(answer.stamp.content_hash, old);
 }
+
+#[tokio::test(flavor = "multi_thread", worker_threads = 2)]
+async fn a_pinned_tables_digest_is_checked_on_answers_and_on_cached_tables() {
+    let server = TestServer::start().await;
+    let open =
+        Client::new(ClientConfig::new(server.url()).with_dataset(DatasetRef::new("demo").expect("id")))
+            .expect("client");
+    let answer = open
+        .lookup_rates(&RateQuery::new(MK_III, vec![1e4]))
+        .await
+        .expect("lookup");
+    let digest = answer.stamp.tables_digest.clone();
+    assert_eq!(digest.len(), 64, "every answer carries the tables digest");
+    open.fetch_tables(MK_III, None)
+        .await
+        .expect("tables into the shared cache");
+
+    let right = open.with_dataset(
+        DatasetRef::new("demo")
+            .expect("id")
+            .pin_tables_digest(&digest.to_ascii_uppercase())
+            .expect("digest"),
+    );
+    right
+        .lookup_rates(&RateQuery::new(MK_III, vec![1e4]))
+        .await
+        .expect("the right digest");
+    let wrong = open.with_dataset(
+        DatasetRef::new("demo")
+            .expect("id")
+            .pin_tables_digest(WRONG)
+            .expect("digest"),
+    );
+    for error in [
+        wrong
+            .lookup_rates(&RateQuery::new(MK_III, vec![1e4]))
+            .await
+            .expect_err("wrong digest"),
+        // The same key as the cached set (the digest is not part of it): still checked.
+        wrong
+            .fetch_tables(MK_III, None)
+            .await
+            .expect_err("cached tables, wrong digest"),
+    ] {
+        match &error {
+            ClientError::TablesDigestMismatch { expected, got, .. } => {
+                assert_eq!(expected, WRONG);
+                assert_eq!(*got, digest);
+            }
+            other => panic!("expected TablesDigestMismatch, got {other:?}"),
+        }
+        assert_eq!(error.exit_code(), 3);
+    }
+}

@@ -35,6 +35,10 @@ pub(crate) struct Cli {
     /// Refuse any answer whose dataset content hash differs (64 hex digits).
     #[arg(long, global = true, value_name = "HASH")]
     pub(crate) pin_hash: Option<String>,
+    /// Refuse any answer whose tables digest differs (64 hex digits): the same numbers bit for
+    /// bit, not only the same data (every answer shows its tables digest).
+    #[arg(long, global = true, value_name = "DIGEST")]
+    pub(crate) pin_tables_digest: Option<String>,
     /// Print JSON for scripts instead of aligned tables.
     #[arg(long, global = true)]
     pub(crate) json: bool,
@@ -93,6 +97,12 @@ pub(crate) enum Command {
     SaveTables(SaveTablesArgs),
     /// Serving status of every server address given.
     Health,
+    /// Load or reload a dataset folder of the server's data folder (an Admin call: needs a
+    /// token, --token-file or RATEWELL_TOKEN). A failed load leaves the previous data serving.
+    Load {
+        /// The folder's name inside the server's data folder.
+        folder: String,
+    },
 }
 
 /// `species` arguments.

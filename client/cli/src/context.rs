@@ -14,6 +14,7 @@ pub(crate) struct Context {
     dataset: Option<String>,
     version: Option<String>,
     pin_hash: Option<String>,
+    pin_tables_digest: Option<String>,
 }
 
 impl Context {
@@ -21,6 +22,9 @@ impl Context {
     pub(crate) fn new(cli: &Cli) -> Result<Self, CliError> {
         if let Some(h) = &cli.pin_hash {
             DatasetRef::new("check")?.pinned(h)?;
+        }
+        if let Some(d) = &cli.pin_tables_digest {
+            DatasetRef::new("check")?.pin_tables_digest(d)?;
         }
         let mut config = ClientConfig::new(String::new())
             .with_endpoints(cli.server.clone())
@@ -51,6 +55,7 @@ impl Context {
             dataset: cli.dataset.clone(),
             version: cli.dataset_version.clone(),
             pin_hash: cli.pin_hash.clone(),
+            pin_tables_digest: cli.pin_tables_digest.clone(),
         })
     }
 
@@ -92,6 +97,9 @@ impl Context {
         }
         if let Some(h) = &self.pin_hash {
             d = d.pinned(h)?;
+        }
+        if let Some(t) = &self.pin_tables_digest {
+            d = d.pin_tables_digest(t)?;
         }
         Ok(d)
     }

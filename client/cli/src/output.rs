@@ -69,11 +69,18 @@ impl Table {
     }
 }
 
-/// "dataset demo 1.0.0, content hash <full hash>" for the top of every answer.
+/// "dataset demo version 1.0.0  content hash <hash>  tables digest <digest>" for the top of
+/// every answer: the content hash says which data, the tables digest which tables were built
+/// from them (equal hashes with different digests: different builds of the tables).
 pub(crate) fn stamp_line(stamp: &pb::DatasetStamp) -> String {
+    let digest = if stamp.tables_digest.is_empty() {
+        "-"
+    } else {
+        &stamp.tables_digest
+    };
     format!(
-        "dataset {} version {}  content hash {}\n",
-        stamp.id, stamp.version, stamp.content_hash
+        "dataset {} version {}  content hash {}  tables digest {}\n",
+        stamp.id, stamp.version, stamp.content_hash, digest
     )
 }
 
@@ -83,6 +90,7 @@ pub(crate) fn stamp_json(stamp: &pb::DatasetStamp) -> Value {
         "id": stamp.id,
         "version": stamp.version,
         "content_hash": stamp.content_hash,
+        "tables_digest": stamp.tables_digest,
         "label": stamp_label(stamp),
     })
 }
@@ -184,8 +192,16 @@ mod tests {
         };
         assert_eq!(
             stamp_line(&s),
-            format!("dataset demo version 1.0.0  content hash {}\n", "ab".repeat(32))
+            format!(
+                "dataset demo version 1.0.0  content hash {}  tables digest -\n",
+                "ab".repeat(32)
+            )
         );
+        let with_digest = pb::DatasetStamp {
+            tables_digest: "cd".repeat(32),
+            ..s.clone()
+        };
+        assert!(stamp_line(&with_digest).ends_with(&format!("  tables digest {}\n", "cd".repeat(32))));
         assert_eq!(stamp_json(&s)["label"], "demo@1.0.0");
         let c = vec!["x".to_string(), "y".to_string(), "x".to_string()];
         assert_eq!(caution_lines(&c), "caution: x\ncaution: y\n");

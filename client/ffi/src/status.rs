@@ -62,7 +62,9 @@ pub(crate) fn status_of(e: &ClientError) -> i32 {
     match e {
         ClientError::InvalidArgument { .. } => RATEWELL_INVALID_ARGUMENT,
         ClientError::UnknownTransition { .. } => RATEWELL_NOT_FOUND,
-        ClientError::HashMismatch { .. } | ClientError::PinRefused { .. } => RATEWELL_HASH_MISMATCH,
+        ClientError::HashMismatch { .. }
+        | ClientError::PinRefused { .. }
+        | ClientError::TablesDigestMismatch { .. } => RATEWELL_HASH_MISMATCH,
         ClientError::StampMismatch { .. } => RATEWELL_STAMP_MISMATCH,
         ClientError::Timeout { .. } | ClientError::Transport { .. } => RATEWELL_UNAVAILABLE,
         ClientError::Malformed { .. } => RATEWELL_SERVER_ERROR,

@@ -35,7 +35,9 @@ fn to_py(e: ClientError) -> PyErr {
         | ClientError::Rule(RuleError::BufferLength { .. })
         | ClientError::Rule(RuleError::BadGrid { .. }) => return PyValueError::new_err(e.to_string()),
         ClientError::UnknownTransition { .. } => "not_found",
-        ClientError::HashMismatch { .. } | ClientError::PinRefused { .. } => "hash_mismatch",
+        ClientError::HashMismatch { .. }
+        | ClientError::PinRefused { .. }
+        | ClientError::TablesDigestMismatch { .. } => "hash_mismatch",
         ClientError::StampMismatch { .. } => "stamp_mismatch",
         ClientError::Timeout { .. } | ClientError::Transport { .. } => "unavailable",
         ClientError::Status { code, .. } => match code {
@@ -97,7 +99,7 @@ impl Connection {
     /// `fall_back_to_fetched_tables`: answer lookups from tables already fetched when no
     /// server answers.
     #[new]
-    #[pyo3(signature = (endpoints, dataset, version=None, pinned_hash=None, time_budget_s=None, cache_dir=None, *, token_file=None, tls_ca_file=None, tls_server_name=None, wait_for_server_s=None, fall_back_to_fetched_tables=false))]
+    #[pyo3(signature = (endpoints, dataset, version=None, pinned_hash=None, time_budget_s=None, cache_dir=None, *, token_file=None, tls_ca_file=None, tls_server_name=None, wait_for_server_s=None, fall_back_to_fetched_tables=false, pin_tables_digest=None))]
     #[allow(clippy::too_many_arguments)]
     fn new(
         endpoints: Vec<String>,
@@ -111,6 +113,7 @@ impl Connection {
         tls_server_name: Option<&str>,
         wait_for_server_s: Option<f64>,
         fall_back_to_fetched_tables: bool,
+        pin_tables_digest: Option<&str>,
     ) -> PyResult<Self> {
         if endpoints.is_empty() {
             return Err(PyValueError::new_err(
@@ -147,6 +150,7 @@ impl Connection {
             ("token_file", token_file),
             ("tls_ca_file", tls_ca_file),
             ("tls_server_name", tls_server_name),
+            ("pin_tables_digest", pin_tables_digest),
         ] {
             if let Some(v) = value {
                 if v.contains([';', '\n']) {

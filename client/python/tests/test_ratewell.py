@@ -103,6 +103,10 @@ def test_unknown_names_and_a_wrong_pin_raise_ratewell_errors(tables):
     with pytest.raises(ratewell.RatewellError) as info:
         conn.fetch_tables(SPECIES)
     assert info.value.code == "hash_mismatch"
+    conn = ratewell.Connection(SERVER, dataset="demo", pin_tables_digest="0" * 64, time_budget_s=10)
+    with pytest.raises(ratewell.RatewellError) as info:
+        conn.fetch_tables(SPECIES)
+    assert info.value.code == "hash_mismatch" and "tables digest" in str(info.value)
     dead = ratewell.Connection("http://127.0.0.1:1", dataset="demo", time_budget_s=2)
     with pytest.raises(ratewell.RatewellError) as info:
         dead.fetch_tables(SPECIES)

@@ -28,6 +28,43 @@ pub(crate) struct Report {
     only_in_first: Vec<String>,
     only_in_second: Vec<String>,
     mismatches: Vec<String>,
+    /// Species whose fetched table sets were compared bit for bit (two servers only), and
+    /// those whose table-set digests differ.
+    table_sets_compared: usize,
+    table_sets_differ: Vec<String>,
+}
+
+/// What the stamps and table-set digests say, in plain words: the first thing a reader of a
+/// two-server comparison needs (the largest difference alone hides a last-bit disagreement).
+fn verdict(r: &Report) -> String {
+    let same_content = r.first.content_hash == r.second.content_hash;
+    let same_tables =
+        same_content && r.first.tables_digest == r.second.tables_digest && r.table_sets_differ.is_empty();
+    if same_tables {
+        if r.table_sets_compared > 0 {
+            format!(
+                "identical tables: same content hash and tables digest, and the {} table set(s) fetched are equal bit for bit",
+                r.table_sets_compared
+            )
+        } else {
+            "identical tables: same content hash and tables digest".to_string()
+        }
+    } else if same_content {
+        format!(
+            "TABLES DIFFER although the dataset content is the same: tables digest {} vs {}{}; \
+             the servers built different tables from the same data (another build or release), \
+             so their answers can differ in the last bits",
+            r.first.tables_digest,
+            r.second.tables_digest,
+            if r.table_sets_differ.is_empty() {
+                String::new()
+            } else {
+                format!("; table sets differ for {}", r.table_sets_differ.join(", "))
+            }
+        )
+    } else {
+        "different datasets: the content hashes differ".to_string()
+    }
 }
 
 /// `compare`.
@@ -68,6 +105,8 @@ async fn on_one_server(ctx: &Context, a: &CompareArgs) -> Result<Report, CliErro
         only_in_first: r.only_in_first,
         only_in_second: r.only_in_second,
         mismatches: r.level_mismatches,
+        table_sets_compared: 0,
+        table_sets_differ: Vec::new(),
     })
 }
 
@@ -108,12 +147,19 @@ async fn on_two_servers(ctx: &Context, a: &CompareArgs, url: &str) -> Result<Rep
         ));
     }
     let mut comparisons: Vec<LocalComparison> = Vec::new();
+    let mut differ = Vec::new();
     for s in &species {
         let t1 = first.fetch_tables(s, None).await?;
         let t2 = second.fetch_tables(s, None).await?;
+        if t1.digest() != t2.digest() {
+            differ.push(s.clone());
+        }
         comparisons.push(compare_tables(&t1, &t2)?);
     }
-    Ok(local_report(comparisons))
+    let mut report = local_report(comparisons);
+    report.table_sets_compared = species.len();
+    report.table_sets_differ = differ;
+    Ok(report)
 }
 
 pub(crate) fn local_report(comparisons: Vec<LocalComparison>) -> Report {
@@ -127,6 +173,8 @@ pub(crate) fn local_report(comparisons: Vec<LocalComparison>) -> Report {
         only_in_first: Vec::new(),
         only_in_second: Vec::new(),
         mismatches: Vec::new(),
+        table_sets_compared: 0,
+        table_sets_differ: Vec::new(),
     };
     for c in comparisons {
         let sp = &c.species;
@@ -152,6 +200,7 @@ pub(crate) fn as_text(r: &Report) -> String {
         stamp_line(&r.first),
         stamp_line(&r.second)
     );
+    out.push_str(&format!("{}\n", verdict(r)));
     out.push_str(&format!(
         "{}; relative difference of the de-excitation rate coefficient, max over temperature\n",
         r.mode
@@ -207,6 +256,11 @@ pub(crate) fn as_json(r: &Report) -> String {
         "only_in_first": r.only_in_first,
         "only_in_second": r.only_in_second,
         "level_mismatches": r.mismatches,
+        "verdict": verdict(r),
+        "same_content": r.first.content_hash == r.second.content_hash,
+        "same_tables_digest": r.first.tables_digest == r.second.tables_digest,
+        "table_sets_compared": r.table_sets_compared,
+        "table_sets_differ": r.table_sets_differ,
     }))
 }
 
@@ -274,5 +328,64 @@ mod tests {
         assert_eq!(species_of(&sets, &v1).len(), 1);
         let any: DatasetRef = "demo".parse().unwrap();
         assert_eq!(species_of(&sets, &any).len(), 2);
+    }
+}
+
+#[cfg(test)]
+mod verdict_tests {
+    use super::*;
+
+    fn report(first: (&str, &str), second: (&str, &str), differ: &[&str]) -> Report {
+        let stamp = |(h, d): (&str, &str)| pb::DatasetStamp {
+            id: "demo".into(),
+            version: "1.0.0".into(),
+            content_hash: h.repeat(64),
+            tables_digest: d.repeat(64),
+        };
+        Report {
+            mode: "test",
+            first: stamp(first),
+            second: stamp(second),
+            rows: Vec::new(),
+            only_in_first: Vec::new(),
+            only_in_second: Vec::new(),
+            mismatches: Vec::new(),
+            table_sets_compared: 2,
+            table_sets_differ: differ.iter().map(|s| s.to_string()).collect(),
+        }
+    }
+
+    // The case a largest-difference figure alone hid: same data, tables built differently.
+    #[test]
+    fn a_comparison_says_plainly_when_tables_differ_for_the_same_data() {
+        let same = verdict(&report(("a", "1"), ("a", "1"), &[]));
+        assert!(same.starts_with("identical tables"), "{same}");
+        assert!(
+            same.contains("2 table set(s) fetched are equal bit for bit"),
+            "{same}"
+        );
+        let rebuilt = verdict(&report(("a", "1"), ("a", "2"), &["Mk II"]));
+        assert!(
+            rebuilt.starts_with("TABLES DIFFER although the dataset content is the same"),
+            "{rebuilt}"
+        );
+        assert!(
+            rebuilt.contains(&"1".repeat(64)) && rebuilt.contains(&"2".repeat(64)),
+            "{rebuilt}"
+        );
+        assert!(rebuilt.contains("table sets differ for Mk II"), "{rebuilt}");
+        // Equal digests but a table set that differs (a server answering with other tables than
+        // its digest says) is not called identical either.
+        let odd = verdict(&report(("a", "1"), ("a", "1"), &["Mk III"]));
+        assert!(odd.starts_with("TABLES DIFFER"), "{odd}");
+        let other = verdict(&report(("a", "1"), ("b", "1"), &[]));
+        assert_eq!(other, "different datasets: the content hashes differ");
+        let text = as_text(&report(("a", "1"), ("a", "2"), &[]));
+        assert!(
+            text.lines()
+                .nth(2)
+                .is_some_and(|l| l.starts_with("TABLES DIFFER")),
+            "{text}"
+        );
     }
 }

@@ -4,6 +4,7 @@ mod catalogue;
 mod compare;
 mod export;
 mod health;
+mod load;
 mod populations;
 mod rates;
 mod table_file;
@@ -24,5 +25,6 @@ pub(crate) async fn run(cli: &Cli) -> Result<String, CliError> {
         Command::Export(a) => export::run(&ctx, a).await,
         Command::SaveTables(a) => table_file::run(&ctx, a).await,
         Command::Health => health::run(&ctx).await,
+        Command::Load { folder } => load::run(&ctx, folder).await,
     }
 }

@@ -165,7 +165,10 @@ mod tests {
         let lines: Vec<&str> = text.lines().collect();
         assert_eq!(
             lines[0],
-            format!("dataset demo version 1.0.0  content hash {}", "d".repeat(64))
+            format!(
+                "dataset demo version 1.0.0  content hash {}  tables digest -",
+                "d".repeat(64)
+            )
         );
         assert!(lines[1].contains("evaluated locally"), "{text}");
         assert_eq!(lines[2], "TRANSITION       T_K  Q_LU_cm3/s  Q_UL_cm3/s  FLAGS");

@@ -94,11 +94,12 @@ class Connection:
     tls_ca_file: connect with TLS trusting this PEM certificate authority (tls_server_name when
     the certificate names another host). wait_for_server_s: keep trying this long while no
     server can be reached (jobs started before their server). fall_back_to_fetched_tables:
-    answer lookups from tables already fetched when no server answers."""
+    answer lookups from tables already fetched when no server answers. pin_tables_digest:
+    refuse answers whose tables digest differs (tables built differently from the same data)."""
 
     def __init__(self, endpoints, dataset, version=None, pinned_hash=None, time_budget_s=None,
                  cache_dir=None, *, token_file=None, tls_ca_file=None, tls_server_name=None,
-                 wait_for_server_s=None, fall_back_to_fetched_tables=False):
+                 wait_for_server_s=None, fall_back_to_fetched_tables=False, pin_tables_digest=None):
         if isinstance(endpoints, str):
             endpoints = [endpoints]
         text = lambda p: None if p is None else str(p)
@@ -106,7 +107,8 @@ class Connection:
                                    text(cache_dir), token_file=text(token_file),
                                    tls_ca_file=text(tls_ca_file), tls_server_name=tls_server_name,
                                    wait_for_server_s=wait_for_server_s,
-                                   fall_back_to_fetched_tables=bool(fall_back_to_fetched_tables))
+                                   fall_back_to_fetched_tables=bool(fall_back_to_fetched_tables),
+                                   pin_tables_digest=pin_tables_digest)
 
     def fetch_tables(self, species):
         """Every rate table of `species` (once per process, or from the cache folder)."""
