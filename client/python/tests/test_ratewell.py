@@ -124,11 +124,17 @@ def test_connection_settings_are_checked_naming_the_setting(tmp_path):
         ratewell.Connection(SERVER, dataset="demo", wait_for_server_s=-1)
     assert "wait_for_server_s = -1" in str(info.value)
     token = tmp_path / "token"
-    token.write_text("# a comment\nnot-checked-by-this-server\n")
-    # The demo server of these checks takes no token; one sent anyway is harmless.
+    token.write_text("# a comment\nnot-a-token-this-server-knows\n")
+    # The server of these checks knows no token: the one read from the file is sent, and
+    # refused by name, which shows it travelled.
     conn = ratewell.Connection(SERVER, dataset="demo", token_file=token, wait_for_server_s=5,
                                fall_back_to_fetched_tables=True, time_budget_s=30)
-    assert conn.fetch_tables(SPECIES).stamp["id"] == "demo"
+    with pytest.raises(ratewell.RatewellError) as info:
+        conn.fetch_tables(SPECIES)
+    assert "bearer token is not one this server accepts" in str(info.value)
+    assert "not-a-token" not in str(info.value)
+    plain = ratewell.Connection(SERVER, dataset="demo", wait_for_server_s=5, time_budget_s=30)
+    assert plain.fetch_tables(SPECIES).stamp["id"] == "demo"
 
 
 def test_table_files_round_trip_and_damaged_files_are_refused(tables, tmp_path):
