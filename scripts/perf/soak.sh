@@ -1,6 +1,7 @@
 #!/usr/bin/env bash
 # The soak run (not CI): 1,000 concurrent clients, each on its own connection, against one
-# release server for 60 s, after a 10 s floor of empty calls at the same concurrency. Prints a
+# release server for 60 s (after 30 s of warm-up lookups), after a 10 s floor of empty calls at
+# the same concurrency. Prints a
 # JSON report (p50/p99 of lookups beside the empty-call floor, server memory at the start and end)
 # and fails on any error or on memory growth over 10%.
 #   scripts/perf/soak.sh [CLIENTS] [SECONDS]

@@ -62,9 +62,12 @@ enum Command {
         /// Concurrent clients.
         #[arg(long, default_value_t = 1000)]
         clients: usize,
-        /// Length of the lookup phase, seconds.
+        /// Length of the measured lookup phase, seconds.
         #[arg(long, default_value_t = 60)]
         seconds: u64,
+        /// Lookups before the measured phase, seconds (not counted for memory flatness).
+        #[arg(long, default_value_t = 30)]
+        warm_up_seconds: u64,
     },
     /// Join the measurements, print the ratio table, write results and the plot.
     Report {
@@ -98,7 +101,8 @@ fn main() -> ExitCode {
             server_bin,
             clients,
             seconds,
-        } => soak::run(&server_bin, clients, seconds),
+            warm_up_seconds,
+        } => soak::run(&server_bin, clients, seconds, warm_up_seconds),
     };
     match result {
         Ok(()) => ExitCode::SUCCESS,
