@@ -22,6 +22,15 @@ pub fn main() -> ExitCode {
             return ExitCode::from(2);
         }
     };
+    if let Some(dir) = &flags.check_dataset {
+        let (report, loads) = check_dataset(dir, &config.limits);
+        print!("{report}");
+        return if loads {
+            ExitCode::SUCCESS
+        } else {
+            ExitCode::FAILURE
+        };
+    }
     let filter = EnvFilter::try_from_default_env().unwrap_or_else(|_| EnvFilter::new("info"));
     // Every event stays one line whatever a logged value holds (see `log_escape`).
     let writer = Escaping(std::io::stdout);
@@ -90,5 +99,42 @@ async fn shutdown_signal() {
     tokio::select! {
         () = ctrl_c => tracing::info!("SIGINT received"),
         () = term => tracing::info!("SIGTERM received"),
+    }
+}
+
+/// `--check-dataset DIR`: the report to print and whether the folder loads.
+pub fn check_dataset(dir: &std::path::Path, limits: &crate::limits::Limits) -> (String, bool) {
+    use crate::dataset::{catalogue::load_folder_limited, check::warnings, error::DatasetError};
+    match load_folder_limited(dir, limits) {
+        Ok(d) => {
+            let levels: usize = d.species.iter().map(|s| s.levels.len()).sum();
+            let collisions: usize = d.species.iter().map(|s| s.collisions.len()).sum();
+            let mut out = format!(
+                "ok: {} loads: dataset {} version {}, content hash {}\n    {} species, {levels} levels, {collisions} collisional transitions\n",
+                dir.display(),
+                d.id,
+                d.version,
+                d.content_hash,
+                d.species.len()
+            );
+            let found = warnings(&d);
+            for w in &found {
+                out.push_str(&format!("warning: {w}\n"));
+            }
+            out.push_str(&format!("{} warning(s)\n", found.len()));
+            (out, true)
+        }
+        Err(DatasetError::Invalid { problems }) => {
+            let mut out = format!(
+                "refused: {} does not load: {} problem(s)\n",
+                dir.display(),
+                problems.len()
+            );
+            for p in &problems {
+                out.push_str(&format!("{p}\n"));
+            }
+            (out, false)
+        }
+        Err(other) => (format!("refused: {}: {other}\n", dir.display()), false),
     }
 }

@@ -132,6 +132,11 @@ impl Default for Config {
     about = "Serve electron-impact rate coefficients, level populations and line emissivities over gRPC"
 )]
 pub struct Flags {
+    /// Check the dataset folder DIR without serving: print every problem (file, line, field)
+    /// or a summary, then warnings about data that load but look wrong; exit 0 when it loads,
+    /// 1 when it does not. Uses the dataset limits of the other settings.
+    #[arg(long, value_name = "DIR")]
+    pub check_dataset: Option<PathBuf>,
     /// TOML file with any of the settings below (snake_case keys).
     #[arg(long, env = "RATEWELL_CONFIG")]
     pub config: Option<PathBuf>,

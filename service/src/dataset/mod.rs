@@ -4,7 +4,8 @@
 //! Modules: [`model`] (types in canonical units), [`units`] (accepted units and conversion),
 //! `format` (which keys exist), `reader` (typed reads that collect problems), `validate`
 //! (meaning and ranges, builds the model), [`hash`] (canonical form and blake3), `load` (texts
-//! to dataset), [`catalogue`] (folders, catalogue), [`embedded`] (compiled-in demo), [`error`].
+//! to dataset), [`catalogue`] (folders, catalogue), [`check`] (warnings about data that load
+//! but look wrong), [`embedded`] (compiled-in demo), [`error`].
 //!
 //! # File format (format 1)
 //!
@@ -155,6 +156,7 @@
 
 mod bounded_read;
 pub mod catalogue;
+pub mod check;
 pub mod embedded;
 pub mod error;
 mod format;
