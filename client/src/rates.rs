@@ -215,46 +215,29 @@ impl RateLookup {
         }
         let rows = first.transitions.len();
         let total: usize = first.temperature_count + rest.iter().map(|p| p.temperature_count).sum::<usize>();
-        fn join<T: Copy>(first: (&[T], usize), rest: &[(&[T], usize)], rows: usize, total: usize) -> Vec<T> {
-            if first.0.is_empty() && rest.iter().all(|(v, _)| v.is_empty()) {
+        let all: Vec<&RateLookup> = std::iter::once(&first).chain(&rest).collect();
+        /// Row `r` of the result is row `r` of every part, in order (transition-major layout).
+        fn join<T: Copy>(
+            all: &[&RateLookup],
+            field: impl Fn(&RateLookup) -> &[T],
+            rows: usize,
+            total: usize,
+        ) -> Vec<T> {
+            if all.iter().all(|p| field(p).is_empty()) {
                 return Vec::new();
             }
             let mut out = Vec::with_capacity(rows * total);
             for row in 0..rows {
-                for &(values, n) in std::iter::once(&first).chain(rest) {
-                    out.extend_from_slice(&values[row * n..(row + 1) * n]);
+                for p in all {
+                    let n = p.temperature_count;
+                    out.extend_from_slice(&field(p)[row * n..(row + 1) * n]);
                 }
             }
             out
         }
-        let n0 = first.temperature_count;
-        let excitation = join(
-            (&first.excitation, n0),
-            &rest
-                .iter()
-                .map(|p| (&p.excitation[..], p.temperature_count))
-                .collect::<Vec<_>>(),
-            rows,
-            total,
-        );
-        let deexcitation = join(
-            (&first.deexcitation, n0),
-            &rest
-                .iter()
-                .map(|p| (&p.deexcitation[..], p.temperature_count))
-                .collect::<Vec<_>>(),
-            rows,
-            total,
-        );
-        let flags = join(
-            (&first.flags, n0),
-            &rest
-                .iter()
-                .map(|p| (&p.flags[..], p.temperature_count))
-                .collect::<Vec<_>>(),
-            rows,
-            total,
-        );
+        let excitation = join(&all, |p| &p.excitation, rows, total);
+        let deexcitation = join(&all, |p| &p.deexcitation, rows, total);
+        let flags = join(&all, |p| &p.flags, rows, total);
         for next in rest {
             for c in next.cautions {
                 if !first.cautions.contains(&c) {
