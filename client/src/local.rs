@@ -46,19 +46,11 @@ impl LocalTables {
                 .as_ref()
                 .ok_or_else(|| malformed("no grid".into()))?,
         )?;
-        let mut tables = Vec::with_capacity(response.tables.len());
-        let mut index = HashMap::with_capacity(response.tables.len());
-        for wire in response.tables {
-            let table = table_from_wire(wire, grid)?;
-            let key = Transition {
-                upper: table.header().upper,
-                lower: table.header().lower,
-            };
-            if index.insert(key, tables.len()).is_some() {
-                return Err(malformed(format!("transition {key} appears twice")));
-            }
-            tables.push(table);
-        }
+        let tables = response
+            .tables
+            .into_iter()
+            .map(|wire| table_from_wire(wire, grid))
+            .collect::<Result<Vec<_>, _>>()?;
         let digest = table_set_digest(&response.species, &grid, &tables);
         if !response.table_set_digest.is_empty() && !response.table_set_digest.eq_ignore_ascii_case(&digest) {
             return Err(malformed(format!(
@@ -66,13 +58,39 @@ impl LocalTables {
                 response.table_set_digest
             )));
         }
+        Self::assemble(stamp, response.species, grid, tables, response.cautions, digest)
+    }
+
+    /// Puts checked parts together: `digest` must be the table-set digest of `tables`
+    /// (computed or verified by the caller). Refuses a transition that appears twice.
+    pub(crate) fn assemble(
+        stamp: pb::DatasetStamp,
+        species: String,
+        grid: LogGrid,
+        tables: Vec<RateTable>,
+        cautions: Vec<String>,
+        digest: String,
+    ) -> Result<Self, ClientError> {
+        let mut index = HashMap::with_capacity(tables.len());
+        for (i, table) in tables.iter().enumerate() {
+            let key = Transition {
+                upper: table.header().upper,
+                lower: table.header().lower,
+            };
+            if index.insert(key, i).is_some() {
+                return Err(ClientError::Malformed {
+                    operation: "FetchTables",
+                    message: format!("transition {key} appears twice"),
+                });
+            }
+        }
         Ok(Self {
             stamp,
-            species: response.species,
+            species,
             grid,
             tables,
             index,
-            cautions: response.cautions,
+            cautions,
             digest,
         })
     }

@@ -1,18 +1,27 @@
 //! Table files: a fetched table set saved to disk and read back with no server, giving the same
-//! bits. The format is ratewell's own (version 1), little-endian:
+//! bits. The format is ratewell's own, little-endian. Version 2 (written since 0.x; version 1
+//! files still load):
 //!
-//! | bytes            | content                                                        |
-//! |------------------|----------------------------------------------------------------|
-//! | 0..8             | magic `RWTABLES`                                               |
-//! | 8..12            | format version, u32 (this library writes 1 and reads up to 1)  |
-//! | 12..20           | body length N, u64                                             |
-//! | 20..20+N         | body: the protobuf encoding of `ratewell.v1.FetchTablesResponse` (stamp, species, grid, tables, cautions, table-set digest) |
-//! | 20+N..20+N+32    | blake3 checksum of bytes 0..20+N                               |
+//! | bytes                 | content                                                        |
+//! |-----------------------|----------------------------------------------------------------|
+//! | 0..8                  | magic `RWTABLES`                                               |
+//! | 8..12                 | format version, u32 (this library writes 2 and reads 1 and 2)  |
+//! | 12..20                | description length M, u64                                      |
+//! | 20..28                | table count T, u64                                             |
+//! | 28..28+M              | description: the protobuf encoding of `ratewell.v1.FetchTablesResponse` without its tables (stamp, species, grid, cautions, table-set digest) |
+//! | 28+M..60+M            | blake3 checksum of bytes 0..28+M                               |
+//! | 60+M..                | T table records, each as the table-set digest hashes it (`ratewell_proto::records`: keys, weights, energy, source range, approximate mark, error bound, knots, slopes) |
 //!
 //! Reading checks, in order: the magic, the version (a newer one is refused with a message
-//! saying so), the length (truncated or trailing bytes), the checksum (any changed byte), the
-//! body, and finally the table-set digest recomputed from the tables. Protobuf stores doubles
-//! as their 64 IEEE-754 bits, so knots and slopes come back exactly.
+//! saying so), the lengths (truncated or trailing bytes), the checksum of the header and the
+//! description (any changed byte there), and then the table-set digest hashed over the records
+//! exactly as they lie in the file (any changed byte in a table), before any table is decoded.
+//! Numbers are stored as their 64 IEEE-754 bits, so knots and slopes come back exactly, and the
+//! tables are hashed once, not decoded first: a 300-level species (75 MB) loads in a few tens
+//! of milliseconds.
+//!
+//! Version 1 (read only): magic, version 1, body length N (u64), the protobuf encoding of the
+//! whole `FetchTablesResponse`, a blake3 checksum of everything before it.
 //!
 //! Writing goes to a temporary name in the same folder, then a rename, so a reader never sees a
 //! half-written file and two writers racing leave one whole file.
@@ -20,18 +29,24 @@
 use crate::error::ClientError;
 use crate::local::LocalTables;
 use prost::Message;
+use ratewell_proto::digest::RecordsDigest;
 use ratewell_proto::pb;
-use std::io::Write;
+use ratewell_proto::records::{append_record, append_tables, record_bytes};
+use ratewell_proto::wire::grid_from_wire;
+use std::io::{Read, Write};
 use std::path::{Path, PathBuf};
 
 /// First eight bytes of every table file.
 pub const TABLE_FILE_MAGIC: &[u8; 8] = b"RWTABLES";
 /// The format version this library writes, and the newest it reads.
-pub const TABLE_FILE_VERSION: u32 = 1;
+pub const TABLE_FILE_VERSION: u32 = 2;
 /// Ending of table file names.
 pub const TABLE_FILE_EXTENSION: &str = "rwtables";
 
-const HEADER_BYTES: usize = 20;
+/// Header of version 1: magic, version, body length.
+const V1_HEADER_BYTES: usize = 20;
+/// Header of version 2: magic, version, description length, table count.
+const HEADER_BYTES: usize = 28;
 const CHECKSUM_BYTES: usize = 32;
 
 fn file_error(path: &Path, message: impl Into<String>) -> ClientError {
@@ -56,39 +71,100 @@ pub(crate) fn name_part(text: &str) -> String {
     if part.is_empty() { "-".into() } else { part }
 }
 
-/// The bytes of a table file holding `response`.
-pub(crate) fn encode(response: &pb::FetchTablesResponse) -> Vec<u8> {
-    let body_len = response.encoded_len();
-    let mut bytes = Vec::with_capacity(HEADER_BYTES + body_len + CHECKSUM_BYTES);
+/// The bytes of a version-2 table file holding `tables`.
+pub(crate) fn encode(tables: &LocalTables) -> Vec<u8> {
+    let mut description = tables.to_wire();
+    description.tables.clear();
+    let description_len = description.encoded_len();
+    let records_len = tables.tables().len() * record_bytes(tables.grid().knots());
+    let mut bytes = Vec::with_capacity(HEADER_BYTES + description_len + CHECKSUM_BYTES + records_len);
     bytes.extend_from_slice(TABLE_FILE_MAGIC);
     bytes.extend_from_slice(&TABLE_FILE_VERSION.to_le_bytes());
-    bytes.extend_from_slice(&(body_len as u64).to_le_bytes());
-    response
+    bytes.extend_from_slice(&(description_len as u64).to_le_bytes());
+    bytes.extend_from_slice(&(tables.tables().len() as u64).to_le_bytes());
+    description
         .encode(&mut bytes)
         .expect("a Vec grows to hold any message");
     let checksum = blake3::hash(&bytes);
     bytes.extend_from_slice(checksum.as_bytes());
+    for table in tables.tables() {
+        append_record(table, &mut bytes);
+    }
     bytes
 }
 
-/// The table set held in `bytes` (read from `path`, named in errors).
-pub(crate) fn decode(path: &Path, bytes: &[u8]) -> Result<pb::FetchTablesResponse, ClientError> {
-    if bytes.len() < TABLE_FILE_MAGIC.len() || &bytes[..8] != TABLE_FILE_MAGIC {
+fn le_u64(bytes: &[u8], at: usize) -> u64 {
+    u64::from_le_bytes(bytes[at..at + 8].try_into().expect("8 bytes"))
+}
+
+/// Reads exactly `buf.len()` bytes, or says the file is truncated (`what` names what was due).
+fn read_part(path: &Path, reader: &mut dyn Read, buf: &mut [u8], what: &str) -> Result<(), ClientError> {
+    reader.read_exact(buf).map_err(|e| {
+        if e.kind() == std::io::ErrorKind::UnexpectedEof {
+            file_error(path, format!("truncated: the file ends inside {what}"))
+        } else {
+            file_error(path, format!("cannot read: {e}"))
+        }
+    })
+}
+
+/// Reads until `buf` is full or the input ends; returns how many bytes were read.
+fn fill(reader: &mut dyn Read, buf: &mut [u8]) -> std::io::Result<usize> {
+    let mut got = 0;
+    while got < buf.len() {
+        match reader.read(&mut buf[got..]) {
+            Ok(0) => break,
+            Ok(n) => got += n,
+            Err(e) if e.kind() == std::io::ErrorKind::Interrupted => {}
+            Err(e) => return Err(e),
+        }
+    }
+    Ok(got)
+}
+
+/// Refuses a file with bytes after its announced end.
+fn expect_end(path: &Path, reader: &mut dyn Read) -> Result<(), ClientError> {
+    let mut rest = Vec::new();
+    reader
+        .read_to_end(&mut rest)
+        .map_err(|e| file_error(path, format!("cannot read: {e}")))?;
+    if rest.is_empty() {
+        Ok(())
+    } else {
+        Err(file_error(
+            path,
+            format!(
+                "{} bytes after the end the header announces: the file is damaged",
+                rest.len()
+            ),
+        ))
+    }
+}
+
+const CHECKSUM_MISMATCH: &str = "checksum mismatch: the file was changed or damaged after it was written";
+
+/// Descriptions and version-1 bodies larger than this are refused before any allocation.
+const MAX_DESCRIPTION_BYTES: u64 = 1 << 30;
+/// Records are read, hashed and decoded this many bytes at a time (about).
+const RECORD_CHUNK_BYTES: usize = 1 << 20;
+
+/// The table set held in the table file read from `reader` (`path` is named in errors).
+pub(crate) fn decode(path: &Path, reader: &mut dyn Read) -> Result<LocalTables, ClientError> {
+    let mut head = [0u8; HEADER_BYTES];
+    let got = fill(reader, &mut head[..12]).map_err(|e| file_error(path, format!("cannot read: {e}")))?;
+    if got < 8 || &head[..8] != TABLE_FILE_MAGIC {
         return Err(file_error(
             path,
             "not a ratewell table file (it does not start with RWTABLES)",
         ));
     }
-    if bytes.len() < HEADER_BYTES {
+    if got < 12 {
         return Err(file_error(
             path,
-            format!(
-                "truncated: {} bytes, shorter than the {HEADER_BYTES}-byte header",
-                bytes.len()
-            ),
+            format!("truncated: {got} bytes, shorter than the header"),
         ));
     }
-    let version = u32::from_le_bytes(bytes[8..12].try_into().expect("4 bytes"));
+    let version = u32::from_le_bytes(head[8..12].try_into().expect("4 bytes"));
     if version > TABLE_FILE_VERSION {
         return Err(file_error(
             path,
@@ -104,39 +180,148 @@ pub(crate) fn decode(path: &Path, bytes: &[u8]) -> Result<pb::FetchTablesRespons
             "format version 0: not a valid version (1 or more)",
         ));
     }
-    let body_len = u64::from_le_bytes(bytes[12..20].try_into().expect("8 bytes"));
-    let expected = (HEADER_BYTES as u64)
-        .checked_add(body_len)
-        .and_then(|n| n.checked_add(CHECKSUM_BYTES as u64));
-    let actual = bytes.len() as u64;
-    match expected {
-        Some(e) if e == actual => {}
-        Some(e) if e < actual => {
-            return Err(file_error(
-                path,
-                format!("{} bytes after the checksum: the file is damaged", actual - e),
-            ));
+    let tables = if version == 1 {
+        read_part(path, reader, &mut head[12..V1_HEADER_BYTES], "the header")?;
+        let response = decode_v1(path, &head[..V1_HEADER_BYTES], reader)?;
+        if response.table_set_digest.is_empty() {
+            return Err(file_error(path, "the table set carries no digest"));
         }
-        _ => {
+        LocalTables::from_wire(response)
+    } else {
+        read_part(path, reader, &mut head[12..HEADER_BYTES], "the header")?;
+        decode_v2(path, &head, reader)
+    };
+    tables.map_err(|e| match e {
+        ClientError::TableFile { .. } => e,
+        other => file_error(path, other.to_string()),
+    })
+}
+
+/// The header's `what` length, refused when implausibly large.
+fn announced(path: &Path, head: &[u8], at: usize, what: &str) -> Result<usize, ClientError> {
+    let n = le_u64(head, at);
+    if n > MAX_DESCRIPTION_BYTES {
+        return Err(file_error(
+            path,
+            format!(
+                "the header announces a {n}-byte {what}, more than the {MAX_DESCRIPTION_BYTES} allowed: the file is damaged"
+            ),
+        ));
+    }
+    Ok(n as usize)
+}
+
+/// Header bytes and `M` description bytes, then the checksum of both, checked.
+fn checked_description(
+    path: &Path,
+    head: &[u8],
+    reader: &mut dyn Read,
+    m: usize,
+    what: &str,
+) -> Result<Vec<u8>, ClientError> {
+    let mut covered = head.to_vec();
+    covered.resize(head.len() + m, 0);
+    read_part(path, reader, &mut covered[head.len()..], what)?;
+    let mut checksum = [0u8; CHECKSUM_BYTES];
+    read_part(path, reader, &mut checksum, "the checksum")?;
+    if blake3::hash(&covered).as_bytes() != &checksum {
+        return Err(file_error(path, CHECKSUM_MISMATCH));
+    }
+    covered.drain(..head.len());
+    Ok(covered)
+}
+
+fn decode_v2(
+    path: &Path,
+    head: &[u8; HEADER_BYTES],
+    reader: &mut dyn Read,
+) -> Result<LocalTables, ClientError> {
+    let m = announced(path, head, 12, "description")?;
+    let description = checked_description(path, head, reader, m, "the description")?;
+    let count = le_u64(head, 20);
+    let description = pb::FetchTablesResponse::decode(description.as_slice())
+        .map_err(|e| file_error(path, format!("the description does not decode: {e}")))?;
+    let no = |what: &str| file_error(path, format!("the description carries no {what}"));
+    let stamp = description.stamp.ok_or_else(|| no("dataset stamp"))?;
+    let grid = grid_from_wire(description.grid.as_ref().ok_or_else(|| no("grid"))?)?;
+    if description.table_set_digest.is_empty() || !description.tables.is_empty() {
+        return Err(no("table-set digest (or it holds tables, which belong after it)"));
+    }
+    let record = record_bytes(grid.knots());
+    let count = usize::try_from(count)
+        .ok()
+        .filter(|&c| c.checked_mul(record).is_some())
+        .ok_or_else(|| {
+            file_error(
+                path,
+                format!("the header announces {count} tables: too many, the file is damaged"),
+            )
+        })?;
+    // Records are read, hashed and decoded a chunk at a time: no copy of the whole file is
+    // held, and the digest is checked before the tables are handed out.
+    let mut digest = RecordsDigest::new(&description.species, &grid, count);
+    let per_chunk = (RECORD_CHUNK_BYTES / record).max(1);
+    let mut chunk = vec![0u8; per_chunk.min(count.max(1)) * record];
+    let mut tables = Vec::with_capacity(count.min(1 << 24));
+    let mut first_problem = None;
+    let mut left = count;
+    while left > 0 {
+        let n = left.min(per_chunk);
+        let bytes = &mut chunk[..n * record];
+        let got = fill(reader, bytes).map_err(|e| file_error(path, format!("cannot read: {e}")))?;
+        if got < bytes.len() {
             return Err(file_error(
                 path,
                 format!(
-                    "truncated: the header announces {body_len} body bytes and a {CHECKSUM_BYTES}-byte \
-                     checksum, the file holds {} bytes after the header",
-                    actual - HEADER_BYTES as u64
+                    "truncated: the file ends inside table {} of the {count} ({record} bytes each) \
+                     the header announces",
+                    count - left + got / record + 1
                 ),
             ));
         }
+        digest.update(bytes);
+        if first_problem.is_none()
+            && let Err(e) = append_tables(bytes, grid, &mut tables)
+        {
+            first_problem = Some(e);
+        }
+        left -= n;
     }
-    let end = HEADER_BYTES + body_len as usize;
-    let checksum = blake3::hash(&bytes[..end]);
-    if checksum.as_bytes() != &bytes[end..] {
+    expect_end(path, reader)?;
+    let digest = digest.finish();
+    if !description.table_set_digest.eq_ignore_ascii_case(&digest) {
         return Err(file_error(
             path,
-            "checksum mismatch: the file was changed or damaged after it was written",
+            format!(
+                "table-set digest mismatch: the tables were changed or damaged after the file was \
+                 written (the file names {}, its tables hash to {digest})",
+                description.table_set_digest
+            ),
         ));
     }
-    pb::FetchTablesResponse::decode(&bytes[HEADER_BYTES..end])
+    if let Some(e) = first_problem {
+        return Err(file_error(path, e.to_string()));
+    }
+    LocalTables::assemble(
+        stamp,
+        description.species,
+        grid,
+        tables,
+        description.cautions,
+        digest,
+    )
+}
+
+/// The whole answer held in a version-1 file, after its 20-byte header `head`.
+fn decode_v1(
+    path: &Path,
+    head: &[u8],
+    reader: &mut dyn Read,
+) -> Result<pb::FetchTablesResponse, ClientError> {
+    let n = announced(path, head, 12, "body")?;
+    let body = checked_description(path, head, reader, n, "the body")?;
+    expect_end(path, reader)?;
+    pb::FetchTablesResponse::decode(body.as_slice())
         .map_err(|e| file_error(path, format!("the body does not decode as a table set: {e}")))
 }
 
@@ -181,7 +366,7 @@ impl LocalTables {
 
     /// The table file's bytes (see the module documentation for the format).
     pub fn to_file_bytes(&self) -> Vec<u8> {
-        encode(&self.to_wire())
+        encode(self)
     }
 
     /// Saves the tables into folder `dir` (created if missing) under [`Self::file_name`],
@@ -206,17 +391,14 @@ impl LocalTables {
     /// Reads a table file written by [`Self::save`] with no server: format, length, checksum
     /// and table-set digest are checked; the tables evaluate to the same bits as the server's.
     pub fn load(path: &Path) -> Result<LocalTables, ClientError> {
-        let bytes = std::fs::read(path).map_err(|e| file_error(path, format!("cannot read: {e}")))?;
-        Self::from_file_bytes(path, &bytes)
+        let mut file =
+            std::fs::File::open(path).map_err(|e| file_error(path, format!("cannot read: {e}")))?;
+        decode(path, &mut file)
     }
 
     /// As [`Self::load`], from bytes already read (`path` is only named in errors).
     pub fn from_file_bytes(path: &Path, bytes: &[u8]) -> Result<LocalTables, ClientError> {
-        let response = decode(path, bytes)?;
-        if response.table_set_digest.is_empty() {
-            return Err(file_error(path, "the table set carries no digest"));
-        }
-        LocalTables::from_wire(response).map_err(|e| file_error(path, e.to_string()))
+        decode(path, &mut &bytes[..])
     }
 }
 
@@ -292,7 +474,7 @@ mod tests {
     fn damaged_truncated_and_newer_files_are_refused_by_name() {
         let good = tables().to_file_bytes();
         assert!(LocalTables::from_file_bytes(Path::new("t"), &good).is_ok());
-        // Every single changed byte is caught (header, body or checksum).
+        // Every single changed byte is caught (header, description, checksum or a table).
         for i in (0..good.len()).step_by(7).chain([good.len() - 1]) {
             let mut bad = good.clone();
             bad[i] ^= 0x01;
@@ -300,10 +482,10 @@ mod tests {
             assert!(m.starts_with("table file t.rwtables: "), "{m}");
             assert!(
                 m.contains("checksum mismatch")
+                    || m.contains("table-set digest mismatch")
                     || m.contains("not a ratewell table file")
                     || m.contains("newer than this library")
                     || m.contains("truncated")
-                    || m.contains("after the checksum")
                     || m.contains("version 0"),
                 "byte {i}: {m}"
             );
@@ -312,29 +494,91 @@ mod tests {
         assert!(m.contains("truncated"), "{m}");
         let m = refused(&good[..10]);
         assert!(m.contains("truncated"), "{m}");
+        let m = refused(&good[..40]);
+        assert!(m.contains("truncated"), "{m}");
         let mut longer = good.clone();
         longer.push(0);
-        assert!(refused(&longer).contains("1 bytes after the checksum"));
+        assert!(refused(&longer).contains("1 bytes after the end the header announces"));
         assert!(refused(b"hello world, not tables").contains("not a ratewell table file"));
         let mut newer = good.clone();
-        newer[8..12].copy_from_slice(&2u32.to_le_bytes());
+        newer[8..12].copy_from_slice(&3u32.to_le_bytes());
         let m = refused(&newer);
         assert!(
-            m.contains("format version 2, newer than this library reads (up to 1)"),
+            m.contains("format version 3, newer than this library reads (up to 2)"),
             "{m}"
         );
     }
 
+    /// A version-2 file with the given description and records, its checksum made to match.
+    fn file_with(description: &pb::FetchTablesResponse, count: u64, records: &[u8]) -> Vec<u8> {
+        let mut bytes = TABLE_FILE_MAGIC.to_vec();
+        bytes.extend_from_slice(&2u32.to_le_bytes());
+        bytes.extend_from_slice(&(description.encoded_len() as u64).to_le_bytes());
+        bytes.extend_from_slice(&count.to_le_bytes());
+        description.encode(&mut bytes).unwrap();
+        let checksum = blake3::hash(&bytes);
+        bytes.extend_from_slice(checksum.as_bytes());
+        bytes.extend_from_slice(records);
+        bytes
+    }
+
     #[test]
     fn a_file_whose_tables_do_not_match_their_digest_is_refused() {
-        // A consistent file (valid checksum) whose digest was not made from its tables.
-        let mut response = tables().to_wire();
+        let t = tables();
+        let mut description = t.to_wire();
+        description.tables.clear();
+        let mut records = Vec::new();
+        for table in t.tables() {
+            append_record(table, &mut records);
+        }
+        let count = t.tables().len() as u64;
+        assert!(
+            LocalTables::from_file_bytes(Path::new("t"), &file_with(&description, count, &records)).is_ok()
+        );
+        // A consistent header (valid checksum) and one table bit changed.
+        let mut changed = records.clone();
+        changed[100] ^= 0x40;
+        let m = refused(&file_with(&description, count, &changed));
+        assert!(m.contains("table-set digest mismatch"), "{m}");
+        // One table fewer than announced, or one more.
+        let one = record_bytes(t.grid().knots());
+        let m = refused(&file_with(&description, count, &records[..records.len() - one]));
+        assert!(m.contains("truncated") && m.contains("table 3 of the 3"), "{m}");
+        let m = refused(&file_with(&description, count - 1, &records));
+        assert!(m.contains("after the end the header announces"), "{m}");
+        let mut no_digest = description.clone();
+        no_digest.table_set_digest.clear();
+        assert!(refused(&file_with(&no_digest, count, &records)).contains("carries no table-set digest"));
+    }
+
+    /// A version-1 file (the format before 2), as earlier libraries wrote it.
+    fn version_1_file(response: &pb::FetchTablesResponse) -> Vec<u8> {
+        let mut bytes = TABLE_FILE_MAGIC.to_vec();
+        bytes.extend_from_slice(&1u32.to_le_bytes());
+        bytes.extend_from_slice(&(response.encoded_len() as u64).to_le_bytes());
+        response.encode(&mut bytes).unwrap();
+        let checksum = blake3::hash(&bytes);
+        bytes.extend_from_slice(checksum.as_bytes());
+        bytes
+    }
+
+    #[test]
+    fn version_1_files_still_load_with_the_same_bits() {
+        let t = tables();
+        let old = version_1_file(&t.to_wire());
+        let back = LocalTables::from_file_bytes(Path::new("old"), &old).unwrap();
+        assert_eq!(back.digest(), t.digest());
+        let (a, b) = (values(&t), values(&back));
+        assert_eq!(bits(&a.deexcitation), bits(&b.deexcitation));
+        let mut bad = old.clone();
+        let n = bad.len();
+        bad[n / 2] ^= 1;
+        assert!(refused(&bad).contains("checksum mismatch"));
+        let mut response = t.to_wire();
         response.tables[0].ln_upsilon[3] += 1e-12;
-        let m = refused(&encode(&response));
-        assert!(m.contains("table-set digest"), "{m}");
-        let mut response = tables().to_wire();
+        assert!(refused(&version_1_file(&response)).contains("table-set digest"));
         response.table_set_digest.clear();
-        assert!(refused(&encode(&response)).contains("carries no digest"));
+        assert!(refused(&version_1_file(&response)).contains("carries no digest"));
     }
 
     #[test]

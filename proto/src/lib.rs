@@ -7,10 +7,12 @@
 //! - [`constants`]: CODATA constants and the rate-coefficient prefactor derived from them.
 //! - [`units`]: the unit conversions applied to served values (shared, so they agree bit for bit).
 //! - [`digest`]: the table-set digest served with every table set and checked by clients.
+//! - [`records`]: the canonical byte form of a table (hashed by the digest, stored in table files).
 //! - [`wire`]: conversions between wire tables and [`rule::RateTable`].
 
 pub mod constants;
 pub mod digest;
+pub mod records;
 pub mod rule;
 pub mod units;
 pub mod wire;

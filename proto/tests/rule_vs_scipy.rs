@@ -36,7 +36,7 @@ fn rule_matches_scipy_pchip() {
         };
         let table = RateTable::from_knots(header, grid, case.ln_upsilon.clone()).unwrap();
         // Knot slopes: same algorithm, so equal to rounding (relative 1e-12 of the data scale).
-        for (i, (&ours, &theirs)) in table.slopes().iter().zip(&case.expected_slopes).enumerate() {
+        for (i, (ours, &theirs)) in table.slopes().zip(&case.expected_slopes).enumerate() {
             assert!(
                 (ours - theirs).abs() <= 1e-10 * (1.0 + theirs.abs()),
                 "{} slope[{i}]: {ours} vs {theirs}",

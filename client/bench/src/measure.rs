@@ -462,7 +462,7 @@ fn write_tables_for_python(
     let mut g_upper = Vec::new();
     for t in transitions {
         let table = tables.table(t.upper, t.lower)?;
-        ln_upsilon.extend_from_slice(table.ln_upsilon());
+        ln_upsilon.extend(table.ln_upsilon());
         g_upper.push(table.header().g_upper);
     }
     let dir = work.join("eval");

@@ -3,23 +3,26 @@
 
 use super::grid::Side;
 
-/// Per-interval coefficients of the cubic Hermite in the fractional position f (in steps).
-pub(super) fn hermite_coefficients(y: &[f64], slopes: &[f64], step: f64) -> Vec<[f64; 4]> {
-    (0..y.len() - 1)
-        .map(|i| {
-            let (y0, y1) = (y[i], y[i + 1]);
-            let (m0, m1) = (slopes[i] * step, slopes[i + 1] * step);
-            let dy = y1 - y0;
-            [y0, m0, 3.0 * dy - 2.0 * m0 - m1, -2.0 * dy + m0 + m1]
-        })
-        .collect()
+/// The cubic Hermite's coefficients a, b, c, d of a + f (b + f (c + f d)) (f in steps) on
+/// interval `i` (clamped to the last), from the (ln Upsilon, slope per log10 T) pairs, computed
+/// where they are used: a table stores no coefficients, so a large species costs its knots and
+/// slopes only, and a table file loads without building them. The vector kernels repeat these
+/// operations in this order.
+#[inline(always)]
+pub(super) fn hermite_coefficients(knots: &[[f64; 2]], step: f64, i: usize) -> [f64; 4] {
+    let i = i.min(knots.len() - 2);
+    let ([y0, s0], [y1, s1]) = (knots[i], knots[i + 1]);
+    let (m0, m1) = (s0 * step, s1 * step);
+    let dy = y1 - y0;
+    [y0, m0, 3.0 * dy - 2.0 * m0 - m1, -2.0 * dy + m0 + m1]
 }
 
-/// ln Upsilon from one table's per-interval coefficients: the cubic inside the grid, linear
-/// continuation from the end knots outside. Select-based and free of bounds panics.
+/// ln Upsilon of one table (knot pairs, grid step `step`): the cubic inside the grid,
+/// linear continuation from the end knots outside. Select-based and free of bounds panics for
+/// tables of two or more knots.
 #[inline(always)]
-pub(super) fn ln_upsilon_cubic(coeffs: &[[f64; 4]], interval: usize, f: f64, side: Side) -> f64 {
-    let [a, b, c, d] = coeffs[interval.min(coeffs.len() - 1)];
+pub(super) fn ln_upsilon_cubic(knots: &[[f64; 2]], step: f64, interval: usize, f: f64, side: Side) -> f64 {
+    let [a, b, c, d] = hermite_coefficients(knots, step, interval);
     let inside = a + f * (b + f * (c + f * d));
     // Linear continuation from the first knot with its slope (b is the slope per step).
     let below = a + f * b;

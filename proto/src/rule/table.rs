@@ -1,7 +1,7 @@
 //! One transition's table: its header, knots and slopes, the per-interval cubic made from them,
 //! and the scalar rule that evaluates it at one location.
 
-use super::cubic::{hermite_coefficients, ln_upsilon_cubic};
+use super::cubic::ln_upsilon_cubic;
 use super::errors::RuleError;
 use super::flags::{self, value_flags};
 use super::grid::{Location, LogGrid, OutsidePolicy, checked_location};
@@ -50,11 +50,10 @@ pub struct RateValue {
 pub struct RateTable {
     header: TableHeader,
     grid: LogGrid,
-    ln_upsilon: Vec<f64>,
-    slopes: Vec<f64>,
+    /// Per knot: ln Upsilon and its slope d(ln Upsilon)/d(log10 T), side by side so one
+    /// interval's cubic reads one contiguous run of four numbers.
+    knots: Vec<[f64; 2]>,
     max_interpolation_error: f64,
-    /// Per interval: a, b, c, d of a + f (b + f (c + f d)), f in steps.
-    coeffs: Vec<[f64; 4]>,
     ln_prefactor_ul: f64,
     ln_weight_ratio: f64,
     base_flags: u32,
@@ -81,6 +80,26 @@ impl RateTable {
     ) -> Result<Self, RuleError> {
         check_knots(&header, &grid, "ln_upsilon", &ln_upsilon)?;
         check_knots(&header, &grid, "slopes", &slopes)?;
+        let knots = ln_upsilon.iter().zip(&slopes).map(|(&y, &m)| [y, m]).collect();
+        Self::from_knot_pairs(header, grid, knots, max_interpolation_error)
+    }
+
+    /// As [`Self::from_parts`], from (ln Upsilon, slope) pairs, one per knot.
+    pub fn from_knot_pairs(
+        header: TableHeader,
+        grid: LogGrid,
+        knots: Vec<[f64; 2]>,
+        max_interpolation_error: f64,
+    ) -> Result<Self, RuleError> {
+        for (field, column) in [("ln_upsilon", 0), ("slopes", 1)] {
+            check_knots_by(
+                &header,
+                &grid,
+                field,
+                knots.len(),
+                knots.iter().map(|k| k[column]),
+            )?;
+        }
         let bad = |field: &'static str, message: String| RuleError::BadTable {
             upper: header.upper,
             lower: header.lower,
@@ -116,7 +135,6 @@ impl RateTable {
                 format!("{max_interpolation_error}: must be finite and >= 0"),
             ));
         }
-        let coeffs = hermite_coefficients(&ln_upsilon, &slopes, grid.log10_t_step());
         let ln_prefactor_ul = ln(rate_prefactor_cm3_s_k_half()) - ln(header.g_upper);
         let ln_weight_ratio = ln(header.g_upper) - ln(header.g_lower);
         let base_flags = if header.approximate { flags::APPROXIMATE } else { 0 };
@@ -125,10 +143,8 @@ impl RateTable {
         Ok(Self {
             header,
             grid,
-            ln_upsilon,
-            slopes,
+            knots,
             max_interpolation_error,
-            coeffs,
             ln_prefactor_ul,
             ln_weight_ratio,
             base_flags,
@@ -153,12 +169,16 @@ impl RateTable {
         &self.grid
     }
     /// ln Upsilon at the knots.
-    pub fn ln_upsilon(&self) -> &[f64] {
-        &self.ln_upsilon
+    pub fn ln_upsilon(&self) -> impl ExactSizeIterator<Item = f64> + '_ {
+        self.knots.iter().map(|k| k[0])
     }
     /// d(ln Upsilon)/d(log10 T) at the knots.
-    pub fn slopes(&self) -> &[f64] {
-        &self.slopes
+    pub fn slopes(&self) -> impl ExactSizeIterator<Item = f64> + '_ {
+        self.knots.iter().map(|k| k[1])
+    }
+    /// (ln Upsilon, slope) per knot.
+    pub fn knot_pairs(&self) -> &[[f64; 2]] {
+        &self.knots
     }
     /// Bound on the relative interpolation error, as measured when the table was built.
     pub fn max_interpolation_error(&self) -> f64 {
@@ -168,7 +188,13 @@ impl RateTable {
     /// ln Upsilon at a location on this table's grid.
     #[inline]
     pub fn ln_upsilon_at(&self, loc: &Location) -> f64 {
-        ln_upsilon_cubic(&self.coeffs, loc.interval, loc.frac, loc.side)
+        ln_upsilon_cubic(
+            &self.knots,
+            self.grid.log10_t_step(),
+            loc.interval,
+            loc.frac,
+            loc.side,
+        )
     }
 
     /// Flags of a value at a location (approximate, beyond source, outside grid).
@@ -239,7 +265,8 @@ impl RateTable {
     /// What the batched kernels need of this table.
     pub(super) fn kernel(&self) -> Kernel<'_> {
         Kernel {
-            coeffs: &self.coeffs,
+            knots: &self.knots,
+            step: self.grid.log10_t_step(),
             ln_prefactor_ul: self.ln_prefactor_ul,
             ln_weight_ratio: self.ln_weight_ratio,
             excitation_energy_k: self.header.excitation_energy_k,
@@ -256,20 +283,29 @@ fn check_knots(
     field: &'static str,
     values: &[f64],
 ) -> Result<(), RuleError> {
+    check_knots_by(header, grid, field, values.len(), values.iter().copied())
+}
+
+fn check_knots_by(
+    header: &TableHeader,
+    grid: &LogGrid,
+    field: &'static str,
+    count: usize,
+    mut values: impl Iterator<Item = f64>,
+) -> Result<(), RuleError> {
     let bad = |message: String| RuleError::BadTable {
         upper: header.upper,
         lower: header.lower,
         field,
         message,
     };
-    if values.len() != grid.knots() {
+    if count != grid.knots() {
         return Err(bad(format!(
-            "{} values for a grid of {} knots",
-            values.len(),
+            "{count} values for a grid of {} knots",
             grid.knots()
         )));
     }
-    if let Some((i, v)) = values.iter().enumerate().find(|(_, v)| !v.is_finite()) {
+    if let Some((i, v)) = values.by_ref().enumerate().find(|(_, v)| !v.is_finite()) {
         return Err(bad(format!("value[{i}] = {v}: must be finite")));
     }
     Ok(())

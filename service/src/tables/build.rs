@@ -110,7 +110,7 @@ pub fn build_table_on(
         };
         max_log_error = max_log_error.max(bound);
     }
-    let max_abs_ln = table.ln_upsilon().iter().fold(0.0f64, |m, v| m.max(v.abs()));
+    let max_abs_ln = table.ln_upsilon().fold(0.0f64, |m, v| m.max(v.abs()));
     Ok(table.with_max_interpolation_error(relative_error_bound(max_log_error, max_abs_ln)))
 }
 

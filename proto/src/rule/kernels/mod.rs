@@ -78,7 +78,8 @@ impl KernelWidth {
 /// What the batched kernel needs of one table, copied out so the loop reads locals.
 #[derive(Clone, Copy)]
 pub(super) struct Kernel<'a> {
-    pub(in crate::rule) coeffs: &'a [[f64; 4]],
+    pub(in crate::rule) knots: &'a [[f64; 2]],
+    pub(in crate::rule) step: f64,
     pub(in crate::rule) ln_prefactor_ul: f64,
     pub(in crate::rule) ln_weight_ratio: f64,
     pub(in crate::rule) excitation_energy_k: f64,

@@ -40,8 +40,8 @@ impl Kernel<'_> {
         let mut ln_q_ul = [0.0; BLOCK];
         let mut ln_q_lu = [0.0; BLOCK];
         // A table has at least one interval (two knots); saying so lets the compiler drop the
-        // bounds check on the coefficient lookup.
-        if self.coeffs.is_empty() {
+        // bounds checks on the knot lookups.
+        if self.knots.len() < 2 {
             return;
         }
         for (start, block) in (0..n).step_by(BLOCK).zip(locations.chunks(BLOCK)) {
@@ -55,7 +55,7 @@ impl Kernel<'_> {
                 done = unsafe { self.cubic_avx::<EXC>(block, &mut ln_q_ul, &mut ln_q_lu) };
             }
             for (k, loc) in block.iter().enumerate().skip(done) {
-                let ln_ups = ln_upsilon_cubic(self.coeffs, loc.interval, loc.frac, loc.side);
+                let ln_ups = ln_upsilon_cubic(self.knots, self.step, loc.interval, loc.frac, loc.side);
                 let l = ln_ups + self.ln_prefactor_ul - 0.5 * loc.ln_t;
                 ln_q_ul[k] = l;
                 if EXC {

@@ -31,7 +31,8 @@ impl Kernel<'_> {
     }
 
     /// ln q_ul (and with `EXC` ln q_lu) for the first multiple of four locations of `block`,
-    /// four at a time: the coefficient rows are loaded whole and transposed, then the cubic,
+    /// four at a time: each interval's two knots with their slopes are loaded whole and
+    /// transposed, the coefficients made from them, then the cubic,
     /// its continuations and the selects run as in
     /// [`ln_upsilon_cubic`](crate::rule::cubic::ln_upsilon_cubic), operation for
     /// operation. Returns how many locations were done.
@@ -44,11 +45,13 @@ impl Kernel<'_> {
         ln_q_lu: &mut [f64; BLOCK],
     ) -> usize {
         use std::arch::x86_64::*;
-        let last = self.coeffs.len() - 1;
+        let last = self.knots.len() - 2;
+        // Knots i and i+1 of interval i with their slopes: [y_i, s_i, y_i+1, s_i+1].
         let row = |loc: &Location| {
-            let c = &self.coeffs[loc.interval.min(last)];
-            // SAFETY: `c` is four contiguous f64.
-            unsafe { _mm256_loadu_pd(c.as_ptr()) }
+            let i = loc.interval.min(last);
+            let pair = &self.knots[i..i + 2];
+            // SAFETY: two knot pairs are four contiguous f64.
+            unsafe { _mm256_loadu_pd(pair.as_ptr().cast::<f64>()) }
         };
         // The four sides as bytes widened to 64-bit lanes, compared with one side's code.
         let sides = |l: &[Location]| {
@@ -61,21 +64,36 @@ impl Kernel<'_> {
         let one = _mm256_set1_pd(1.0);
         let two = _mm256_set1_pd(2.0);
         let three = _mm256_set1_pd(3.0);
+        let minus_two = _mm256_set1_pd(-2.0);
+        let step = _mm256_set1_pd(self.step);
         let half = _mm256_set1_pd(0.5);
         let prefactor = _mm256_set1_pd(self.ln_prefactor_ul);
         let ratio = _mm256_set1_pd(self.ln_weight_ratio);
         let energy = _mm256_set1_pd(self.excitation_energy_k);
         let quads = block.len() / 4;
         for (q, l) in block.chunks_exact(4).enumerate() {
+            // The coefficients as `hermite_coefficients` makes them, operation for operation.
             let (r0, r1, r2, r3) = (row(&l[0]), row(&l[1]), row(&l[2]), row(&l[3]));
             let t0 = _mm256_unpacklo_pd(r0, r1);
             let t1 = _mm256_unpackhi_pd(r0, r1);
             let t2 = _mm256_unpacklo_pd(r2, r3);
             let t3 = _mm256_unpackhi_pd(r2, r3);
-            let a = _mm256_permute2f128_pd::<0x20>(t0, t2);
-            let b = _mm256_permute2f128_pd::<0x20>(t1, t3);
-            let c = _mm256_permute2f128_pd::<0x31>(t0, t2);
-            let d = _mm256_permute2f128_pd::<0x31>(t1, t3);
+            let y0 = _mm256_permute2f128_pd::<0x20>(t0, t2);
+            let y1 = _mm256_permute2f128_pd::<0x31>(t0, t2);
+            let s0 = _mm256_permute2f128_pd::<0x20>(t1, t3);
+            let s1 = _mm256_permute2f128_pd::<0x31>(t1, t3);
+            let m0 = _mm256_mul_pd(s0, step);
+            let m1 = _mm256_mul_pd(s1, step);
+            let dy = _mm256_sub_pd(y1, y0);
+            let a = y0;
+            let b = m0;
+            // 3 dy - 2 m0 - m1
+            let c = _mm256_sub_pd(
+                _mm256_sub_pd(_mm256_mul_pd(three, dy), _mm256_mul_pd(two, m0)),
+                m1,
+            );
+            // -2 dy + m0 + m1
+            let d = _mm256_add_pd(_mm256_add_pd(_mm256_mul_pd(minus_two, dy), m0), m1);
             let f = _mm256_set_pd(l[3].frac, l[2].frac, l[1].frac, l[0].frac);
             // a + f (b + f (c + f d))
             let inside = _mm256_add_pd(
