@@ -7,9 +7,7 @@
 mod common;
 
 use criterion::{BenchmarkId, Criterion, Throughput, criterion_group, criterion_main};
-use ratewell_proto::rule::OutsidePolicy;
-use ratewell_service::engine::solve::{PointLayout, SolveQuery};
-use ratewell_service::engine::units::{DensityUnit, PowerUnit, TemperatureUnit};
+use ratewell_service::engine::solve::SolveQuery;
 use ratewell_service::engine::{Engine, Selector};
 use ratewell_service::physics::populations::{CollisionalRate, PopulationWorkspace};
 use std::hint::black_box;
@@ -24,23 +22,7 @@ fn densities(n: usize) -> Vec<f64> {
 }
 
 fn query(species: &str, temperatures: Vec<f64>, densities: Vec<f64>) -> SolveQuery {
-    SolveQuery {
-        selector: Selector {
-            id: "bench-solve".into(),
-            version: None,
-            expected_hash: None,
-        },
-        species: species.into(),
-        temperatures,
-        temperature_unit: TemperatureUnit::Kelvin,
-        densities,
-        density_unit: DensityUnit::PerCubicCentimetre,
-        layout: PointLayout::Grid,
-        outside: OutsidePolicy::Refuse,
-        power_unit: PowerUnit::Watt,
-        grid: None,
-        min_line_fraction: 0.0,
-    }
+    SolveQuery::grid(Selector::newest("bench-solve"), species, temperatures, densities)
 }
 
 fn workspace(c: &mut Criterion, engine: &Engine) {

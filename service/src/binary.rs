@@ -102,6 +102,33 @@ async fn shutdown_signal() {
     }
 }
 
+/// Critical-density warnings of a dataset that loaded (`engine::density_check`); a dataset the
+/// engine refuses to install or solve is reported as a warning too, since the check command's
+/// own loader accepted it.
+fn density_warnings(
+    dataset: crate::dataset::model::Dataset,
+    limits: &crate::limits::Limits,
+) -> Vec<crate::dataset::check::Warning> {
+    use crate::engine::{Engine, EngineConfig, Selector};
+    let engine = Engine::new(EngineConfig {
+        limits: *limits,
+        ..EngineConfig::default()
+    });
+    let selector = Selector::newest(dataset.id.clone());
+    let problem = |message: String| {
+        vec![crate::dataset::check::Warning {
+            species: "(all)".into(),
+            message,
+        }]
+    };
+    if let Err(e) = engine.install(dataset) {
+        return problem(format!("the dataset loads but does not install: {e}"));
+    }
+    engine
+        .critical_density_warnings(&selector)
+        .unwrap_or_else(|e| problem(format!("critical densities could not be computed: {e}")))
+}
+
 /// `--check-dataset DIR`: the report to print and whether the folder loads.
 pub fn check_dataset(dir: &std::path::Path, limits: &crate::limits::Limits) -> (String, bool) {
     use crate::dataset::{catalogue::load_folder_limited, check::warnings, error::DatasetError};
@@ -117,7 +144,8 @@ pub fn check_dataset(dir: &std::path::Path, limits: &crate::limits::Limits) -> (
                 d.content_hash,
                 d.species.len()
             );
-            let found = warnings(&d);
+            let mut found = warnings(&d);
+            found.extend(density_warnings(d, limits));
             for w in &found {
                 out.push_str(&format!("warning: {w}\n"));
             }

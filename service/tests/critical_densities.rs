@@ -3,33 +3,20 @@
 //! checked against the two-level closed form and against an independent computation from the
 //! real-ion data files (tests/reference/make_critical_density_reference.py, mpmath).
 
-use ratewell_proto::rule::OutsidePolicy;
 use ratewell_service::dataset::load_dataset_from_texts;
-use ratewell_service::engine::solve::{PointLayout, SolveAnswer, SolveQuery};
-use ratewell_service::engine::units::{DensityUnit, PowerUnit, TemperatureUnit};
+use ratewell_service::engine::solve::{SolveAnswer, SolveQuery};
 use ratewell_service::engine::{Engine, EngineConfig, Selector};
 use serde_json::Value;
 use std::path::Path;
 
 fn solve(engine: &Engine, id: &str, species: &str, t_k: f64, densities: Vec<f64>) -> SolveAnswer {
     engine
-        .solve(&SolveQuery {
-            selector: Selector {
-                id: id.into(),
-                version: None,
-                expected_hash: None,
-            },
-            species: species.into(),
-            temperatures: vec![t_k],
-            temperature_unit: TemperatureUnit::Kelvin,
+        .solve(&SolveQuery::grid(
+            Selector::newest(id),
+            species,
+            vec![t_k],
             densities,
-            density_unit: DensityUnit::PerCubicCentimetre,
-            layout: PointLayout::Grid,
-            outside: OutsidePolicy::Refuse,
-            power_unit: PowerUnit::Watt,
-            grid: None,
-            min_line_fraction: 0.0,
-        })
+        ))
         .expect("solve succeeds")
 }
 

@@ -95,3 +95,29 @@ fn a_radiative_pair_without_collision_data_is_warned_about() {
     );
     let _ = std::fs::remove_dir_all(&dir);
 }
+
+#[test]
+fn a_critical_density_far_outside_the_tested_densities_is_warned_about() {
+    // An A value written in the wrong unit (1e18 times too large): the level's critical density
+    // (sum of A over sum of downward q; common practice, no source) moves far above the
+    // 1 to 1e20 cm^-3 that population solves are tested for.
+    let dir = demo_copy("density", |t| {
+        t.replacen("a_per_s = 1.9e-3", "a_per_s = 1.9e15", 1)
+    });
+    let (code, out) = check(&dir);
+    assert_eq!(code, 0, "{out}");
+    let warned: Vec<&str> = out.lines().filter(|l| l.contains("critical density")).collect();
+    assert_eq!(warned.len(), 1, "{out}");
+    assert!(
+        warned[0].starts_with("warning: species Mk III: level ")
+            && warned[0].contains("at 10000 K, more than 1e3 times above the 1e0 to 1e20 cm^-3"),
+        "{out}"
+    );
+    let _ = std::fs::remove_dir_all(&dir);
+    // Published data and the demo as shipped: no such warning.
+    for folder in ["data/demo", "tests/data/real-ions"] {
+        let (code, out) = check(&Path::new(env!("CARGO_MANIFEST_DIR")).join(folder));
+        assert_eq!(code, 0, "{out}");
+        assert!(!out.contains("critical density"), "{folder}: {out}");
+    }
+}

@@ -3,9 +3,8 @@
 //! texts, see each file). The whole chain is exercised: file -> tables (Burgess & Tully
 //! scaling) -> the evaluation rule -> statistical equilibrium -> emissivities.
 
-use ratewell_proto::rule::OutsidePolicy;
-use ratewell_service::engine::solve::{PointLayout, SolveAnswer, SolveQuery};
-use ratewell_service::engine::units::{DensityUnit, PowerUnit, TemperatureUnit};
+use ratewell_service::engine::solve::{SolveAnswer, SolveQuery};
+use ratewell_service::engine::units::PowerUnit;
 use ratewell_service::engine::{Engine, EngineConfig, Selector};
 use std::path::Path;
 
@@ -19,21 +18,13 @@ fn engine() -> Engine {
 fn solve(engine: &Engine, species: &str, temperatures: Vec<f64>, densities: Vec<f64>) -> SolveAnswer {
     engine
         .solve(&SolveQuery {
-            selector: Selector {
-                id: "reference-ions".into(),
-                version: None,
-                expected_hash: None,
-            },
-            species: species.into(),
-            temperatures,
-            temperature_unit: TemperatureUnit::Kelvin,
-            densities,
-            density_unit: DensityUnit::PerCubicCentimetre,
-            layout: PointLayout::Grid,
-            outside: OutsidePolicy::Refuse,
             power_unit: PowerUnit::ErgPerSecond,
-            grid: None,
-            min_line_fraction: 0.0,
+            ..SolveQuery::grid(
+                Selector::newest("reference-ions"),
+                species,
+                temperatures,
+                densities,
+            )
         })
         .expect("solve succeeds")
 }

@@ -1,28 +1,15 @@
 //! Abandoned population solves stop early instead of occupying the blocking pool.
 
-use ratewell_proto::rule::OutsidePolicy;
-use ratewell_service::engine::solve::{Cancel, PointLayout, SolveQuery};
-use ratewell_service::engine::units::{DensityUnit, PowerUnit, TemperatureUnit};
+use ratewell_service::engine::solve::{Cancel, SolveQuery};
 use ratewell_service::engine::{Engine, EngineConfig, EngineError, Selector};
 
 fn query() -> SolveQuery {
-    SolveQuery {
-        selector: Selector {
-            id: "demo".into(),
-            version: None,
-            expected_hash: None,
-        },
-        species: "Mk II".into(),
-        temperatures: (0..50).map(|i| 5.0e3 + 1.0e3 * f64::from(i)).collect(),
-        temperature_unit: TemperatureUnit::Kelvin,
-        densities: vec![1e2, 1e4, 1e6],
-        density_unit: DensityUnit::PerCubicCentimetre,
-        layout: PointLayout::Grid,
-        outside: OutsidePolicy::Refuse,
-        power_unit: PowerUnit::Watt,
-        grid: None,
-        min_line_fraction: 0.0,
-    }
+    SolveQuery::grid(
+        Selector::newest("demo"),
+        "Mk II",
+        (0..50).map(|i| 5.0e3 + 1.0e3 * f64::from(i)).collect(),
+        vec![1e2, 1e4, 1e6],
+    )
 }
 
 #[test]

@@ -8,9 +8,7 @@ use ratewell_e2e::codata::{kelvin_per_inverse_cm, photon_energy_j};
 use ratewell_e2e::requests::{DEMO, MK_II, MK_III, demo, log_spaced, lookup, solve};
 use ratewell_e2e::{TestServer, test_config};
 use ratewell_proto::pb;
-use ratewell_proto::rule::OutsidePolicy;
-use ratewell_service::engine::solve::{PointLayout, SolveQuery};
-use ratewell_service::engine::units::{DensityUnit, PowerUnit, TemperatureUnit};
+use ratewell_service::engine::solve::SolveQuery;
 use ratewell_service::engine::{Engine, Selector};
 use ratewell_service::server::build_engine;
 
@@ -47,23 +45,12 @@ async fn server_solve_equals_engine_solve_bit_for_bit() {
             .expect("solve")
             .into_inner();
         let direct = engine
-            .solve(&SolveQuery {
-                selector: Selector {
-                    id: DEMO.to_string(),
-                    version: None,
-                    expected_hash: None,
-                },
-                species: species.to_string(),
-                temperatures: temps.clone(),
-                temperature_unit: TemperatureUnit::Kelvin,
-                densities: dens.clone(),
-                density_unit: DensityUnit::PerCubicCentimetre,
-                layout: PointLayout::Grid,
-                outside: OutsidePolicy::Refuse,
-                power_unit: PowerUnit::Watt,
-                grid: None,
-                min_line_fraction: 0.0,
-            })
+            .solve(&SolveQuery::grid(
+                Selector::newest(DEMO),
+                species,
+                temps.clone(),
+                dens.clone(),
+            ))
             .expect("direct solve");
         let stamp = answer.stamp.clone().expect("stamp");
         assert_eq!(stamp.content_hash, direct.stamp.content_hash);

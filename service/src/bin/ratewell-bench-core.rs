@@ -10,10 +10,8 @@
 mod synthetic;
 
 use clap::Parser;
-use ratewell_proto::rule::OutsidePolicy;
 use ratewell_service::dataset::{Dataset, load_dataset_from_texts};
-use ratewell_service::engine::solve::{PointLayout, SolveQuery};
-use ratewell_service::engine::units::{DensityUnit, PowerUnit, TemperatureUnit};
+use ratewell_service::engine::solve::SolveQuery;
 use ratewell_service::engine::{Engine, EngineConfig, GridSpec, Selector};
 use ratewell_service::physics::populations::{CollisionalRate, PopulationWorkspace};
 use ratewell_service::tables::build_species_tables;
@@ -200,19 +198,7 @@ fn measure_solves(dir: &Path, levels: &[usize], reps: usize, quick: bool) -> Res
         let name = synthetic::species_name(charge as u32);
         let (temps, dens) = solve_points(n, quick);
         let points = temps.len() * dens.len();
-        let query = SolveQuery {
-            selector: selector(),
-            species: name.clone(),
-            temperatures: temps.clone(),
-            temperature_unit: TemperatureUnit::Kelvin,
-            densities: dens.clone(),
-            density_unit: DensityUnit::PerCubicCentimetre,
-            layout: PointLayout::Grid,
-            outside: OutsidePolicy::Refuse,
-            power_unit: PowerUnit::Watt,
-            grid: None,
-            min_line_fraction: 0.0,
-        };
+        let query = SolveQuery::grid(selector(), name.clone(), temps.clone(), dens.clone());
         black_box(engine.solve(&query)?);
         let mut engine_best = f64::INFINITY;
         for _ in 0..reps {

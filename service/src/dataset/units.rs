@@ -61,7 +61,9 @@ impl EnergyUnit {
     /// Convert `value` in this unit to Rydberg.
     pub fn to_ry(self, value: f64) -> f64 {
         match self {
-            EnergyUnit::InverseCm => value * INVERSE_CM_J / RYDBERG_J,
+            // The physics' own conversion, so a threshold made here and one made while
+            // building tables are the same number to the last bit.
+            EnergyUnit::InverseCm => crate::physics::units::cm1_to_ry(value),
             EnergyUnit::ElectronVolt => value * ELECTRON_VOLT_J / RYDBERG_J,
             EnergyUnit::Joule => value / RYDBERG_J,
             EnergyUnit::Rydberg => value,

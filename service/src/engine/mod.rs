@@ -15,6 +15,7 @@
 pub mod admit;
 pub mod cancel;
 pub mod compare;
+pub mod density_check;
 pub mod error;
 pub mod folders;
 pub mod lookup;

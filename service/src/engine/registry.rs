@@ -42,6 +42,16 @@ pub struct Selector {
     pub expected_hash: Option<String>,
 }
 
+impl Selector {
+    /// The newest loaded version of dataset `id`, whatever its content hash.
+    pub fn newest(id: impl Into<String>) -> Self {
+        Self {
+            id: id.into(),
+            ..Self::default()
+        }
+    }
+}
+
 /// Per-species inputs of a population solve that do not depend on (Te, ne).
 #[derive(Debug)]
 pub struct SolveInputs {

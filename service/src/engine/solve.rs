@@ -57,6 +57,32 @@ pub struct SolveQuery {
     pub min_line_fraction: f64,
 }
 
+impl SolveQuery {
+    /// Every temperature (K) with every density (cm^-3) of `species` on the dataset's default
+    /// grid: temperatures outside it refused, powers in W, every line reported. Change any
+    /// other field with struct update syntax.
+    pub fn grid(
+        selector: Selector,
+        species: impl Into<String>,
+        temperatures_k: Vec<f64>,
+        densities_cm3: Vec<f64>,
+    ) -> Self {
+        Self {
+            selector,
+            species: species.into(),
+            temperatures: temperatures_k,
+            temperature_unit: TemperatureUnit::Kelvin,
+            densities: densities_cm3,
+            density_unit: DensityUnit::PerCubicCentimetre,
+            layout: PointLayout::Grid,
+            outside: OutsidePolicy::Refuse,
+            power_unit: PowerUnit::Watt,
+            grid: None,
+            min_line_fraction: 0.0,
+        }
+    }
+}
+
 /// One line's emission at a point.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct LineAnswer {
