@@ -87,7 +87,7 @@ STARTED=$SECONDS
 say "starting ratewell-server on the embedded demo dataset (INVENTED data), on a free loopback port"
 # Port 0: the system picks a free port, and the server's 'serving' log line names it. Settings
 # from the caller's environment are cleared so the server holds only the demo dataset.
-env -u RATEWELL_CONFIG -u RATEWELL_DATA_DIR -u RATEWELL_NO_DEMO -u RATEWELL_LISTEN \
+env -u RATEWELL_CONFIG -u RATEWELL_DATA_DIR -u RATEWELL_DEMO -u RATEWELL_LISTEN \
   "$BIN/ratewell-server" --listen 127.0.0.1:0 --json-logs >"$WORK/server.log" 2>&1 &
 SERVER_PID=$!
 ADDRESS=""

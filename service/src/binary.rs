@@ -1,10 +1,9 @@
 //! The server process behind the `ratewell-server` binary: parse configuration, set up logs,
 //! bind, serve until SIGINT or SIGTERM.
 
-use crate::config::{Config, Flags};
+use crate::config::{Config, ConfigError};
 use crate::log_escape::Escaping;
 use crate::server;
-use clap::Parser;
 use std::process::ExitCode;
 use std::time::Duration;
 use tracing_subscriber::EnvFilter;
@@ -14,14 +13,19 @@ use tracing_subscriber::EnvFilter;
 /// a copy of it to test the process (signals, exit within the grace period).
 pub fn main() -> ExitCode {
     crate::memory::tune_allocator();
-    let flags = Flags::parse();
-    let config = match Config::resolve(&flags) {
+    let (flags, config) = match Config::from_args(std::env::args_os()) {
         Ok(c) => c,
+        // Help, the version, and usage mistakes: clap prints them and picks the exit status.
+        Err(ConfigError::Usage(e)) => e.exit(),
         Err(e) => {
             eprintln!("ratewell-server: {e}");
             return ExitCode::from(2);
         }
     };
+    if flags.print_config {
+        print!("{}", config.to_toml());
+        return ExitCode::SUCCESS;
+    }
     if let Some(dir) = &flags.check_dataset {
         let (report, loads) = check_dataset(dir, &config.limits);
         print!("{report}");

@@ -1,18 +1,33 @@
-//! Server configuration: built-in defaults, then a TOML file (`--config`), then environment
-//! variables (`RATEWELL_*`), then command-line flags. Validated at start-up; the effective
-//! values are logged.
+//! Server configuration: one settings struct, [`Config`], read from four layers by figment:
+//! built-in defaults, a TOML file (`--config`), environment variables (`RATEWELL_*`) and
+//! command-line flags, each later layer winning. Every setting is one field below: its doc
+//! comment is its `--help` text, its attributes name its flag and environment variable, its
+//! name is its file key (limits in a `[limits]` table), and its default is in [`DEFAULTS`] (or
+//! [`crate::limits::DEFAULT_LIMITS`]). Booleans take a value on every layer (`--demo false`,
+//! `RATEWELL_DEMO=false`, `demo = false`), so each can be switched both ways. Durations are
+//! seconds. [`Config::validate`] checks every range in one place; `--print-config` shows the
+//! effective settings in the file's own format.
 
+use crate::auth::Scope;
 use crate::engine::{EngineConfig, GridSpec};
-use crate::limits::Limits;
-use clap::Parser;
-use serde::Deserialize;
-use std::net::SocketAddr;
+use crate::limits::{DEFAULT_LIMITS, Limits};
+use clap::builder::BoolishValueParser;
+use clap::parser::ValueSource;
+use clap::{ArgAction, ArgMatches, CommandFactory, FromArgMatches, Parser};
+use figment::Figment;
+use figment::providers::{Format, Serialized, Toml};
+use figment::value::{Dict, Value};
+use serde::{Deserialize, Serialize};
+use std::net::{IpAddr, Ipv4Addr, SocketAddr};
 use std::path::{Path, PathBuf};
 use std::time::Duration;
 
 /// Why the configuration was refused.
 #[derive(Debug, thiserror::Error)]
 pub enum ConfigError {
+    /// The command line does not parse (or asks for help or the version): clap's own message.
+    #[error("{0}")]
+    Usage(#[from] clap::Error),
     /// The config file could not be read.
     #[error("cannot read config file {}: {source}", path.display())]
     Read {
@@ -21,12 +36,12 @@ pub enum ConfigError {
         /// The I/O error.
         source: std::io::Error,
     },
-    /// The config file is not valid TOML for this struct.
+    /// The config file is not valid TOML for these settings.
     #[error("config file {}: {message}", path.display())]
     Parse {
         /// The file.
         path: PathBuf,
-        /// The parser's message (with line and column).
+        /// The parser's message (with the key, or line and column).
         message: String,
     },
     /// A setting is outside its allowed range.
@@ -41,95 +56,197 @@ pub enum ConfigError {
     },
 }
 
-/// Effective server settings. Every limit lives here.
-#[derive(Debug, Clone, PartialEq)]
-pub struct Config {
-    /// Address to listen on.
-    pub listen: SocketAddr,
-    /// Folder holding dataset folders (each with a `dataset.toml`); `None` serves the demo only.
-    pub data_dir: Option<PathBuf>,
-    /// Load the embedded (invented) demo dataset.
-    pub demo: bool,
-    /// Grid every table is precomputed on at load.
-    pub default_grid: GridSpec,
-    /// Largest encoded message the server decodes or encodes, bytes (tonic's default is 4 MiB;
-    /// raised so a 45,000-transition species' tables fit in one FetchTables answer).
-    pub max_message_bytes: usize,
-    /// Engine calls in flight at once; more are shed with RESOURCE_EXHAUSTED.
-    pub max_in_flight: usize,
-    /// Largest transitions x temperatures in one lookup.
-    pub max_lookup_values: usize,
-    /// Largest number of (Te, ne) points in one solve.
-    pub max_solve_points: usize,
-    /// Dataset, request, table-cache and connection limits (the `[limits]` table of the
-    /// config file).
-    pub limits: Limits,
-    /// Upper bound on any request's duration (a client's grpc-timeout may be shorter).
-    pub request_timeout: Duration,
-    /// HTTP/2 keepalive ping interval.
-    pub keepalive_interval: Duration,
-    /// Close each client connection gracefully (HTTP/2 GOAWAY: calls in flight finish) after
-    /// it has been open this long, so clients reconnect and spread over replicas added since;
-    /// `None`: connections live as long as their clients.
-    pub max_connection_age: Option<Duration>,
-    /// HTTP/2 keepalive ping timeout.
-    pub keepalive_timeout: Duration,
-    /// After health turns NOT_SERVING at shutdown, wait this long before refusing new calls.
-    pub drain: Duration,
-    /// Longest wait for in-flight calls to finish at shutdown.
-    pub shutdown_grace: Duration,
-    /// Serve the benchmark-only Transport service (empty and echo RPCs).
-    pub benchmark_endpoints: bool,
-    /// Log as JSON lines instead of text.
-    pub json_logs: bool,
-    /// File of `NAME TOKEN` lines (see [`crate::auth`]); without it Admin calls are refused.
-    pub tokens_file: Option<PathBuf>,
-    /// Which calls need a bearer token: Admin only, or every call but health checks.
-    pub auth_scope: crate::auth::Scope,
-    /// PEM certificate chain for TLS (with `tls_key_file`); without both, plain HTTP/2.
-    pub tls_cert_file: Option<PathBuf>,
-    /// PEM private key of `tls_cert_file`.
-    pub tls_key_file: Option<PathBuf>,
-    /// Address of the plain-HTTP Prometheus endpoint (`GET /metrics`); `None` serves none.
-    pub metrics_listen: Option<SocketAddr>,
-}
+/// Longest duration setting, seconds.
+const MAX_SECONDS: f64 = 86_400.0;
 
-impl Default for Config {
-    fn default() -> Self {
-        let engine = EngineConfig::default();
-        Self {
-            listen: SocketAddr::from(([127, 0, 0, 1], 50051)),
-            data_dir: None,
-            demo: true,
-            default_grid: engine.default_grid,
-            max_message_bytes: 64 * 1024 * 1024,
-            max_in_flight: 256,
-            max_lookup_values: engine.max_lookup_values,
-            max_solve_points: engine.max_solve_points,
-            limits: engine.limits,
-            request_timeout: Duration::from_secs(120),
-            keepalive_interval: Duration::from_secs(30),
-            max_connection_age: None,
-            keepalive_timeout: Duration::from_secs(10),
-            drain: Duration::from_millis(500),
-            shutdown_grace: Duration::from_secs(10),
-            benchmark_endpoints: false,
-            json_logs: false,
-            tokens_file: None,
-            auth_scope: crate::auth::Scope::Admin,
-            tls_cert_file: None,
-            tls_key_file: None,
-            metrics_listen: None,
-        }
+/// A duration setting from seconds: finite, within [0, 86400].
+fn seconds_from(s: f64) -> Result<Duration, String> {
+    if s.is_finite() && (0.0..=MAX_SECONDS).contains(&s) {
+        Ok(Duration::from_secs_f64(s))
+    } else {
+        Err(format!(
+            "{s}: must be a number of seconds within [0, {MAX_SECONDS}]"
+        ))
     }
 }
 
-/// Command-line flags; each can also come from the environment variable shown.
-#[derive(Debug, Default, Parser)]
+/// Duration settings on the command line and in the environment, as seconds.
+fn parse_seconds(text: &str) -> Result<Duration, String> {
+    let s: f64 = text
+        .trim()
+        .parse()
+        .map_err(|_| format!("{text:?}: not a number of seconds"))?;
+    seconds_from(s)
+}
+
+/// Duration settings in the file, as seconds.
+mod as_seconds {
+    use serde::{Deserialize, Deserializer, Serializer};
+    use std::time::Duration;
+
+    pub(super) fn serialize<S: Serializer>(d: &Duration, s: S) -> Result<S::Ok, S::Error> {
+        s.serialize_f64(d.as_secs_f64())
+    }
+
+    pub(super) fn deserialize<'de, D: Deserializer<'de>>(d: D) -> Result<Duration, D::Error> {
+        super::seconds_from(f64::deserialize(d)?).map_err(serde::de::Error::custom)
+    }
+}
+
+/// Effective server settings (see the module documentation for where each comes from).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, clap::Args)]
+#[serde(deny_unknown_fields)]
+pub struct Config {
+    /// Listen address.
+    #[arg(long, env = "RATEWELL_LISTEN", default_value_t = DEFAULTS.listen)]
+    pub listen: SocketAddr,
+    /// Folder of dataset folders to load at start and to reload from (a folder that fails to
+    /// load is refused on its own, logged with file, line and field; the others are served).
+    #[arg(long, env = "RATEWELL_DATA_DIR")]
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub data_dir: Option<PathBuf>,
+    /// Load the embedded (invented) demo dataset; `false` serves only the data folder.
+    #[arg(long, env = "RATEWELL_DEMO", default_value_t = DEFAULTS.demo, action = ArgAction::Set,
+          num_args = 0..=1, default_missing_value = "true", value_name = "BOOL",
+          value_parser = BoolishValueParser::new())]
+    pub demo: bool,
+    /// Lowest temperature of the default table grid, K.
+    #[arg(long, env = "RATEWELL_GRID_T_MIN_K", default_value_t = DEFAULTS.grid_t_min_k)]
+    pub grid_t_min_k: f64,
+    /// Highest temperature of the default table grid, K.
+    #[arg(long, env = "RATEWELL_GRID_T_MAX_K", default_value_t = DEFAULTS.grid_t_max_k)]
+    pub grid_t_max_k: f64,
+    /// Knots per decade of the default table grid.
+    #[arg(long, env = "RATEWELL_GRID_POINTS_PER_DECADE", default_value_t = DEFAULTS.grid_points_per_decade)]
+    pub grid_points_per_decade: u32,
+    /// Largest message decoded or encoded, bytes (tonic's default is 4 MiB; raised so a
+    /// 45,000-transition species' tables fit in one FetchTables answer).
+    #[arg(long, env = "RATEWELL_MAX_MESSAGE_BYTES", default_value_t = DEFAULTS.max_message_bytes)]
+    pub max_message_bytes: usize,
+    /// Engine calls in flight at once; more are shed with RESOURCE_EXHAUSTED.
+    #[arg(long, env = "RATEWELL_MAX_IN_FLIGHT", default_value_t = DEFAULTS.max_in_flight)]
+    pub max_in_flight: usize,
+    /// Largest transitions x temperatures in one lookup.
+    #[arg(long, env = "RATEWELL_MAX_LOOKUP_VALUES", default_value_t = DEFAULTS.max_lookup_values)]
+    pub max_lookup_values: usize,
+    /// Largest number of (Te, ne) points in one solve.
+    #[arg(long, env = "RATEWELL_MAX_SOLVE_POINTS", default_value_t = DEFAULTS.max_solve_points)]
+    pub max_solve_points: usize,
+    /// Upper bound on any request's duration, seconds (a client's grpc-timeout may be shorter).
+    #[arg(id = "request_timeout_s", long = "request-timeout-s", env = "RATEWELL_REQUEST_TIMEOUT_S",
+          default_value = "120", value_parser = parse_seconds, value_name = "SECONDS")]
+    #[serde(rename = "request_timeout_s", with = "as_seconds")]
+    pub request_timeout: Duration,
+    /// HTTP/2 keepalive ping interval, seconds.
+    #[arg(id = "keepalive_interval_s", long = "keepalive-interval-s", env = "RATEWELL_KEEPALIVE_INTERVAL_S",
+          default_value = "30", value_parser = parse_seconds, value_name = "SECONDS")]
+    #[serde(rename = "keepalive_interval_s", with = "as_seconds")]
+    pub keepalive_interval: Duration,
+    /// HTTP/2 keepalive ping timeout, seconds.
+    #[arg(id = "keepalive_timeout_s", long = "keepalive-timeout-s", env = "RATEWELL_KEEPALIVE_TIMEOUT_S",
+          default_value = "10", value_parser = parse_seconds, value_name = "SECONDS")]
+    #[serde(rename = "keepalive_timeout_s", with = "as_seconds")]
+    pub keepalive_timeout: Duration,
+    /// Close each client connection gracefully (HTTP/2 GOAWAY: calls in flight finish) after it
+    /// has been open this many seconds, so clients reconnect and spread over replicas added
+    /// since; 0: connections live as long as their clients.
+    #[arg(id = "max_connection_age_s", long = "max-connection-age-s", env = "RATEWELL_MAX_CONNECTION_AGE_S",
+          default_value = "0", value_parser = parse_seconds, value_name = "SECONDS")]
+    #[serde(rename = "max_connection_age_s", with = "as_seconds")]
+    pub max_connection_age: Duration,
+    /// After health turns NOT_SERVING at shutdown, wait this many seconds before refusing new
+    /// calls.
+    #[arg(id = "drain_s", long = "drain-s", env = "RATEWELL_DRAIN_S",
+          default_value = "0.5", value_parser = parse_seconds, value_name = "SECONDS")]
+    #[serde(rename = "drain_s", with = "as_seconds")]
+    pub drain: Duration,
+    /// Longest wait for in-flight calls to finish at shutdown, seconds.
+    #[arg(id = "shutdown_grace_s", long = "shutdown-grace-s", env = "RATEWELL_SHUTDOWN_GRACE_S",
+          default_value = "10", value_parser = parse_seconds, value_name = "SECONDS")]
+    #[serde(rename = "shutdown_grace_s", with = "as_seconds")]
+    pub shutdown_grace: Duration,
+    /// Serve the benchmark-only Transport service (empty and echo RPCs).
+    #[arg(long, env = "RATEWELL_BENCHMARK_ENDPOINTS", default_value_t = DEFAULTS.benchmark_endpoints,
+          action = ArgAction::Set, num_args = 0..=1, default_missing_value = "true", value_name = "BOOL",
+          value_parser = BoolishValueParser::new())]
+    pub benchmark_endpoints: bool,
+    /// Log JSON lines instead of plain text.
+    #[arg(long, env = "RATEWELL_JSON_LOGS", default_value_t = DEFAULTS.json_logs,
+          action = ArgAction::Set, num_args = 0..=1, default_missing_value = "true", value_name = "BOOL",
+          value_parser = BoolishValueParser::new())]
+    pub json_logs: bool,
+    /// File of `NAME TOKEN` lines: bearer tokens accepted for Admin (and, with `auth_scope =
+    /// all`, for every call); see `crate::auth`. Without it every Admin call is refused.
+    #[arg(long, env = "RATEWELL_TOKENS_FILE")]
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub tokens_file: Option<PathBuf>,
+    /// Which calls need a token: `admin` (Admin only) or `all` (every call but health checks).
+    #[arg(long, env = "RATEWELL_AUTH_SCOPE", value_enum, default_value_t = DEFAULTS.auth_scope)]
+    pub auth_scope: Scope,
+    /// PEM certificate chain (leaf first): serve TLS instead of plain HTTP/2 (needs
+    /// `tls_key_file`).
+    #[arg(long, env = "RATEWELL_TLS_CERT_FILE")]
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub tls_cert_file: Option<PathBuf>,
+    /// PEM private key of `tls_cert_file`.
+    #[arg(long, env = "RATEWELL_TLS_KEY_FILE")]
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub tls_key_file: Option<PathBuf>,
+    /// Serve Prometheus metrics at http://ADDRESS/metrics (plain HTTP; keep it internal);
+    /// unset: none.
+    #[arg(long, env = "RATEWELL_METRICS_LISTEN")]
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub metrics_listen: Option<SocketAddr>,
+    /// Dataset, request, table-cache and connection limits (the file's `[limits]` table).
+    #[command(flatten)]
+    #[serde(default)]
+    pub limits: Limits,
+}
+
+/// Every setting's default.
+pub const DEFAULTS: Config = Config {
+    listen: SocketAddr::new(IpAddr::V4(Ipv4Addr::new(127, 0, 0, 1)), 50051),
+    data_dir: None,
+    demo: true,
+    grid_t_min_k: 10.0,
+    grid_t_max_k: 1.0e9,
+    grid_points_per_decade: 20,
+    max_message_bytes: 64 * 1024 * 1024,
+    max_in_flight: 256,
+    max_lookup_values: 4_000_000,
+    max_solve_points: 100_000,
+    request_timeout: Duration::from_secs(120),
+    keepalive_interval: Duration::from_secs(30),
+    keepalive_timeout: Duration::from_secs(10),
+    max_connection_age: Duration::ZERO,
+    drain: Duration::from_millis(500),
+    shutdown_grace: Duration::from_secs(10),
+    benchmark_endpoints: false,
+    json_logs: false,
+    tokens_file: None,
+    auth_scope: Scope::Admin,
+    tls_cert_file: None,
+    tls_key_file: None,
+    metrics_listen: None,
+    limits: DEFAULT_LIMITS,
+};
+
+impl Default for Config {
+    fn default() -> Self {
+        DEFAULTS
+    }
+}
+
+/// Command-line flags: the process's own (`--check-dataset`, `--config`, `--print-config`)
+/// and every setting of [`Config`].
+#[derive(Debug, Parser)]
 #[command(
     name = "ratewell-server",
     version,
-    about = "Serve electron-impact rate coefficients, level populations and line emissivities over gRPC"
+    about = "Serve electron-impact rate coefficients, level populations and line emissivities over gRPC",
+    after_help = "Every setting can also be given in the --config file (snake_case keys; limits in a \
+                  [limits] table) and in the environment variable shown; flags win over the \
+                  environment, which wins over the file."
 )]
 pub struct Flags {
     /// Check the dataset folder DIR without serving: print every problem (file, line, field)
@@ -137,320 +254,132 @@ pub struct Flags {
     /// 1 when it does not. Uses the dataset limits of the other settings.
     #[arg(long, value_name = "DIR")]
     pub check_dataset: Option<PathBuf>,
-    /// TOML file with any of the settings below (snake_case keys).
+    /// TOML file with any of the settings below.
     #[arg(long, env = "RATEWELL_CONFIG")]
     pub config: Option<PathBuf>,
-    /// Listen address [default: 127.0.0.1:50051].
-    #[arg(long, env = "RATEWELL_LISTEN")]
-    pub listen: Option<SocketAddr>,
-    /// Folder of dataset folders to load at start and to reload from (a folder that fails to
-    /// load is refused on its own, logged with file, line and field; the others are served).
-    #[arg(long, env = "RATEWELL_DATA_DIR")]
-    pub data_dir: Option<PathBuf>,
-    /// Do not load the embedded demo dataset.
-    #[arg(long, env = "RATEWELL_NO_DEMO")]
-    pub no_demo: bool,
-    /// Lowest temperature of the default table grid, K [default: 10].
-    #[arg(long, env = "RATEWELL_GRID_T_MIN_K")]
-    pub grid_t_min_k: Option<f64>,
-    /// Highest temperature of the default table grid, K [default: 1e9].
-    #[arg(long, env = "RATEWELL_GRID_T_MAX_K")]
-    pub grid_t_max_k: Option<f64>,
-    /// Knots per decade of the default table grid [default: 20].
-    #[arg(long, env = "RATEWELL_GRID_POINTS_PER_DECADE")]
-    pub grid_points_per_decade: Option<u32>,
-    /// Largest message decoded or encoded, bytes [default: 67108864].
-    #[arg(long, env = "RATEWELL_MAX_MESSAGE_BYTES")]
-    pub max_message_bytes: Option<usize>,
-    /// Engine calls in flight at once before shedding load [default: 256].
-    #[arg(long, env = "RATEWELL_MAX_IN_FLIGHT")]
-    pub max_in_flight: Option<usize>,
-    /// Largest transitions x temperatures per lookup [default: 4000000].
-    #[arg(long, env = "RATEWELL_MAX_LOOKUP_VALUES")]
-    pub max_lookup_values: Option<usize>,
-    /// Largest (Te, ne) points per solve [default: 100000].
-    #[arg(long, env = "RATEWELL_MAX_SOLVE_POINTS")]
-    pub max_solve_points: Option<usize>,
-    /// Longest request, seconds [default: 120].
-    #[arg(long, env = "RATEWELL_REQUEST_TIMEOUT_S")]
-    pub request_timeout_s: Option<f64>,
-    /// Longest wait for in-flight calls at shutdown, seconds [default: 10].
-    #[arg(long, env = "RATEWELL_SHUTDOWN_GRACE_S")]
-    pub shutdown_grace_s: Option<f64>,
-    /// Close client connections gracefully after this many seconds, so clients reconnect and
-    /// spread over new replicas (0: never) [default: 0].
-    #[arg(long, env = "RATEWELL_MAX_CONNECTION_AGE_S")]
-    pub max_connection_age_s: Option<f64>,
-    /// Byte budget of tables cached on non-default grids [default: 268435456].
-    #[arg(long, env = "RATEWELL_TABLE_CACHE_BYTES")]
-    pub table_cache_bytes: Option<u64>,
-    /// Most levels in one species of a loaded dataset [default: 3000].
-    #[arg(long, env = "RATEWELL_MAX_LEVELS_PER_SPECIES")]
-    pub max_levels_per_species: Option<u64>,
-    /// Most TCP connections served at once [default: 1000].
-    #[arg(long, env = "RATEWELL_MAX_CONNECTIONS")]
-    pub max_connections: Option<u64>,
-    /// Longest wait for a new connection's HTTP/2 preface, seconds [default: 10].
-    #[arg(long, env = "RATEWELL_HANDSHAKE_TIMEOUT_S")]
-    pub handshake_timeout_s: Option<f64>,
-    /// Serve the benchmark-only Transport service.
-    #[arg(long, env = "RATEWELL_BENCHMARK_ENDPOINTS")]
-    pub benchmark_endpoints: bool,
-    /// Log JSON lines.
-    #[arg(long, env = "RATEWELL_JSON_LOGS")]
-    pub json_logs: bool,
-    /// File of `NAME TOKEN` lines: bearer tokens accepted for Admin (and, with
-    /// `--auth-scope all`, for every call). Without it every Admin call is refused.
-    #[arg(long, env = "RATEWELL_TOKENS_FILE")]
-    pub tokens_file: Option<PathBuf>,
-    /// Which calls need a token: `admin` (Admin only) or `all` (all but health checks)
-    /// [default: admin].
-    #[arg(long, env = "RATEWELL_AUTH_SCOPE", value_enum)]
-    pub auth_scope: Option<crate::auth::Scope>,
-    /// PEM certificate chain (leaf first): serve TLS instead of plain HTTP/2 (needs
-    /// `--tls-key-file`).
-    #[arg(long, env = "RATEWELL_TLS_CERT_FILE")]
-    pub tls_cert_file: Option<PathBuf>,
-    /// PEM private key of the TLS certificate.
-    #[arg(long, env = "RATEWELL_TLS_KEY_FILE")]
-    pub tls_key_file: Option<PathBuf>,
-    /// Serve Prometheus metrics at http://ADDRESS/metrics (plain HTTP; keep it internal)
-    /// [default: none].
-    #[arg(long, env = "RATEWELL_METRICS_LISTEN")]
-    pub metrics_listen: Option<SocketAddr>,
+    /// Print the effective settings (every layer applied) in the config file's format, and exit.
+    #[arg(long)]
+    pub print_config: bool,
+    /// The settings as given on the command line and in the environment.
+    #[command(flatten)]
+    pub settings: Config,
 }
 
-/// The settings a config file may hold (all optional).
-#[derive(Debug, Default, Deserialize)]
-#[serde(deny_unknown_fields)]
-struct FileSettings {
-    listen: Option<SocketAddr>,
-    data_dir: Option<PathBuf>,
-    demo: Option<bool>,
-    grid_t_min_k: Option<f64>,
-    grid_t_max_k: Option<f64>,
-    grid_points_per_decade: Option<u32>,
-    max_message_bytes: Option<usize>,
-    max_in_flight: Option<usize>,
-    max_lookup_values: Option<usize>,
-    max_solve_points: Option<usize>,
-    limits: Option<Limits>,
-    request_timeout_s: Option<f64>,
-    keepalive_interval_s: Option<f64>,
-    keepalive_timeout_s: Option<f64>,
-    max_connection_age_s: Option<f64>,
-    drain_s: Option<f64>,
-    shutdown_grace_s: Option<f64>,
-    benchmark_endpoints: Option<bool>,
-    json_logs: Option<bool>,
-    tokens_file: Option<PathBuf>,
-    auth_scope: Option<crate::auth::Scope>,
-    tls_cert_file: Option<PathBuf>,
-    tls_key_file: Option<PathBuf>,
-    metrics_listen: Option<SocketAddr>,
-}
+/// Keys of path settings: relative paths in a config file are relative to the file.
+const PATH_KEYS: [&str; 4] = ["data_dir", "tokens_file", "tls_cert_file", "tls_key_file"];
 
-fn seconds(field: &'static str, s: f64) -> Result<Duration, ConfigError> {
-    if s.is_finite() && (0.0..=86_400.0).contains(&s) {
-        Ok(Duration::from_secs_f64(s))
-    } else {
-        Err(ConfigError::Invalid {
-            field,
-            value: s.to_string(),
-            allowed: "must be a number of seconds within [0, 86400]",
-        })
+/// The file's settings, with relative paths made relative to the file.
+fn file_layer(path: &Path) -> Result<Dict, ConfigError> {
+    let text = std::fs::read_to_string(path).map_err(|source| ConfigError::Read {
+        path: path.to_owned(),
+        source,
+    })?;
+    let parse_error = |message: String| ConfigError::Parse {
+        path: path.to_owned(),
+        message,
+    };
+    let profiles = figment::Provider::data(&Toml::string(&text)).map_err(|e| parse_error(e.to_string()))?;
+    let mut dict = profiles.into_values().next().unwrap_or_default();
+    let folder = path.parent().unwrap_or(Path::new("."));
+    for key in PATH_KEYS {
+        if let Some(Value::String(tag, v)) = dict.get(key)
+            && Path::new(v).is_relative()
+        {
+            let joined = folder.join(v).to_string_lossy().into_owned();
+            dict.insert(key.into(), Value::String(*tag, joined));
+        }
     }
+    Ok(dict)
 }
 
-/// `max_connection_age_s`: 0 is off, anything else a number of seconds.
-fn connection_age(s: f64) -> Result<Option<Duration>, ConfigError> {
-    let age = seconds("max_connection_age_s", s)?;
-    Ok((!age.is_zero()).then_some(age))
+/// The settings given on the command line or in the environment (clap's own defaults left
+/// out, so they do not hide the file's values), as a nested dictionary of file keys.
+fn explicit_layer(settings: &Config, matches: &ArgMatches) -> Result<Dict, ConfigError> {
+    fn keep(dict: Dict, matches: &ArgMatches) -> Dict {
+        dict.into_iter()
+            .filter_map(|(key, value)| match value {
+                Value::Dict(tag, inner) => {
+                    let inner = keep(inner, matches);
+                    (!inner.is_empty()).then_some((key, Value::Dict(tag, inner)))
+                }
+                value => {
+                    let given = matches.try_contains_id(&key).unwrap_or(false)
+                        && matches!(
+                            matches.value_source(&key),
+                            Some(ValueSource::CommandLine | ValueSource::EnvVariable)
+                        );
+                    given.then_some((key, value))
+                }
+            })
+            .collect()
+    }
+    let value = Value::serialize(settings).map_err(|e| ConfigError::Invalid {
+        field: "settings",
+        value: e.to_string(),
+        allowed: "settings that serialize (a bug if seen)",
+    })?;
+    Ok(value.into_dict().map(|d| keep(d, matches)).unwrap_or_default())
 }
 
 impl Config {
-    /// Defaults, then the file named by `flags.config`, then environment and flags (clap has
-    /// already merged those two, flags winning), then validation.
-    pub fn resolve(flags: &Flags) -> Result<Self, ConfigError> {
-        let mut c = Config::default();
-        if let Some(path) = &flags.config {
-            c.apply_file(path)?;
-        }
-        if let Some(v) = flags.listen {
-            c.listen = v;
-        }
-        if let Some(v) = &flags.data_dir {
-            c.data_dir = Some(v.clone());
-        }
-        if flags.no_demo {
-            c.demo = false;
-        }
-        if let Some(v) = flags.grid_t_min_k {
-            c.default_grid.t_min_k = v;
-        }
-        if let Some(v) = flags.grid_t_max_k {
-            c.default_grid.t_max_k = v;
-        }
-        if let Some(v) = flags.grid_points_per_decade {
-            c.default_grid.points_per_decade = v;
-        }
-        if let Some(v) = flags.max_message_bytes {
-            c.max_message_bytes = v;
-        }
-        if let Some(v) = flags.max_in_flight {
-            c.max_in_flight = v;
-        }
-        if let Some(v) = flags.max_lookup_values {
-            c.max_lookup_values = v;
-        }
-        if let Some(v) = flags.max_solve_points {
-            c.max_solve_points = v;
-        }
-        if let Some(v) = flags.request_timeout_s {
-            c.request_timeout = seconds("request_timeout_s", v)?;
-        }
-        if let Some(v) = flags.shutdown_grace_s {
-            c.shutdown_grace = seconds("shutdown_grace_s", v)?;
-        }
-        if let Some(v) = flags.max_connection_age_s {
-            c.max_connection_age = connection_age(v)?;
-        }
-        if let Some(v) = &flags.tokens_file {
-            c.tokens_file = Some(v.clone());
-        }
-        if let Some(v) = flags.auth_scope {
-            c.auth_scope = v;
-        }
-        if let Some(v) = &flags.tls_cert_file {
-            c.tls_cert_file = Some(v.clone());
-        }
-        if let Some(v) = &flags.tls_key_file {
-            c.tls_key_file = Some(v.clone());
-        }
-        if let Some(v) = flags.metrics_listen {
-            c.metrics_listen = Some(v);
-        }
-        if let Some(v) = flags.table_cache_bytes {
-            c.limits.table_cache_bytes = v;
-        }
-        if let Some(v) = flags.max_levels_per_species {
-            c.limits.max_levels_per_species = v;
-        }
-        if let Some(v) = flags.max_connections {
-            c.limits.max_connections = v;
-        }
-        if let Some(v) = flags.handshake_timeout_s {
-            c.limits.handshake_timeout_s = v;
-        }
-        c.benchmark_endpoints |= flags.benchmark_endpoints;
-        c.json_logs |= flags.json_logs;
-        c.validate()?;
-        Ok(c)
+    /// Flags and settings from `args` (the program name first) and the environment.
+    pub fn from_args<I, T>(args: I) -> Result<(Flags, Config), ConfigError>
+    where
+        I: IntoIterator<Item = T>,
+        T: Into<std::ffi::OsString> + Clone,
+    {
+        let matches = Flags::command().try_get_matches_from(args)?;
+        let flags = Flags::from_arg_matches(&matches)?;
+        let config = Self::resolve(&flags, &matches)?;
+        Ok((flags, config))
     }
 
-    fn apply_file(&mut self, path: &Path) -> Result<(), ConfigError> {
-        let text = std::fs::read_to_string(path).map_err(|source| ConfigError::Read {
-            path: path.to_owned(),
-            source,
+    /// Defaults, then the file named by `flags.config`, then the environment and the command
+    /// line (clap has merged those two, flags winning), then validation.
+    pub fn resolve(flags: &Flags, matches: &ArgMatches) -> Result<Self, ConfigError> {
+        let mut figment = Figment::from(Serialized::defaults(DEFAULTS));
+        if let Some(path) = &flags.config {
+            figment = figment.merge(Serialized::defaults(file_layer(path)?));
+        }
+        figment = figment.merge(Serialized::defaults(explicit_layer(&flags.settings, matches)?));
+        // Values of the last two layers were typed by clap: only the file's can be refused here.
+        let config: Config = figment.extract().map_err(|errors| ConfigError::Parse {
+            path: flags.config.clone().unwrap_or_default(),
+            message: errors
+                .into_iter()
+                .map(|e| match e.path.join(".") {
+                    key if key.is_empty() => e.kind.to_string(),
+                    key => format!("{key}: {}", e.kind),
+                })
+                .collect::<Vec<_>>()
+                .join("; "),
         })?;
-        let f: FileSettings = toml::from_str(&text).map_err(|e| ConfigError::Parse {
-            path: path.to_owned(),
-            message: e.to_string(),
-        })?;
-        if let Some(v) = f.listen {
-            self.listen = v;
+        config.validate()?;
+        Ok(config)
+    }
+
+    /// The effective settings in the config file's format (TOML).
+    pub fn to_toml(&self) -> String {
+        toml::to_string(self).unwrap_or_else(|e| format!("# settings do not serialize: {e}\n"))
+    }
+
+    /// The grid every table is precomputed on at load.
+    pub fn default_grid(&self) -> GridSpec {
+        GridSpec {
+            t_min_k: self.grid_t_min_k,
+            t_max_k: self.grid_t_max_k,
+            points_per_decade: self.grid_points_per_decade,
         }
-        // Relative paths in a config file are relative to the file.
-        let beside = |v: PathBuf| {
-            if v.is_relative() {
-                path.parent().unwrap_or(Path::new(".")).join(v)
-            } else {
-                v
-            }
-        };
-        if let Some(v) = f.data_dir {
-            self.data_dir = Some(beside(v));
-        }
-        if let Some(v) = f.tokens_file {
-            self.tokens_file = Some(beside(v));
-        }
-        if let Some(v) = f.auth_scope {
-            self.auth_scope = v;
-        }
-        if let Some(v) = f.tls_cert_file {
-            self.tls_cert_file = Some(beside(v));
-        }
-        if let Some(v) = f.tls_key_file {
-            self.tls_key_file = Some(beside(v));
-        }
-        if let Some(v) = f.metrics_listen {
-            self.metrics_listen = Some(v);
-        }
-        if let Some(v) = f.demo {
-            self.demo = v;
-        }
-        if let Some(v) = f.grid_t_min_k {
-            self.default_grid.t_min_k = v;
-        }
-        if let Some(v) = f.grid_t_max_k {
-            self.default_grid.t_max_k = v;
-        }
-        if let Some(v) = f.grid_points_per_decade {
-            self.default_grid.points_per_decade = v;
-        }
-        if let Some(v) = f.max_message_bytes {
-            self.max_message_bytes = v;
-        }
-        if let Some(v) = f.max_in_flight {
-            self.max_in_flight = v;
-        }
-        if let Some(v) = f.max_lookup_values {
-            self.max_lookup_values = v;
-        }
-        if let Some(v) = f.max_solve_points {
-            self.max_solve_points = v;
-        }
-        if let Some(v) = f.limits {
-            self.limits = v;
-        }
-        for (field, value, slot) in [
-            (
-                "request_timeout_s",
-                f.request_timeout_s,
-                &mut self.request_timeout,
-            ),
-            (
-                "keepalive_interval_s",
-                f.keepalive_interval_s,
-                &mut self.keepalive_interval,
-            ),
-            (
-                "keepalive_timeout_s",
-                f.keepalive_timeout_s,
-                &mut self.keepalive_timeout,
-            ),
-            ("drain_s", f.drain_s, &mut self.drain),
-            ("shutdown_grace_s", f.shutdown_grace_s, &mut self.shutdown_grace),
-        ] {
-            if let Some(s) = value {
-                *slot = seconds(field, s)?;
-            }
-        }
-        if let Some(v) = f.max_connection_age_s {
-            self.max_connection_age = connection_age(v)?;
-        }
-        if let Some(v) = f.benchmark_endpoints {
-            self.benchmark_endpoints = v;
-        }
-        if let Some(v) = f.json_logs {
-            self.json_logs = v;
-        }
-        Ok(())
+    }
+
+    /// How long a client connection may stay open (`None`: as long as its client keeps it).
+    pub fn connection_age(&self) -> Option<Duration> {
+        (!self.max_connection_age.is_zero()).then_some(self.max_connection_age)
     }
 
     /// Checks every setting's range.
     pub fn validate(&self) -> Result<(), ConfigError> {
-        let g = &self.default_grid;
+        let g = self.default_grid();
         if let Err(e) = ratewell_proto::rule::LogGrid::from_range(g.t_min_k, g.t_max_k, g.points_per_decade) {
             return Err(ConfigError::Invalid {
                 field: "grid",
@@ -514,7 +443,7 @@ impl Config {
     /// The engine's part of the settings.
     pub fn engine_config(&self) -> EngineConfig {
         EngineConfig {
-            default_grid: self.default_grid,
+            default_grid: self.default_grid(),
             data_dir: self.data_dir.clone(),
             limits: self.limits,
             max_answer_bytes: self.max_message_bytes,
@@ -528,49 +457,167 @@ impl Config {
 mod tests {
     use super::*;
 
-    #[test]
-    fn flags_override_file_and_file_overrides_defaults() {
-        let dir = std::env::temp_dir().join(format!("ratewell-config-{}", std::process::id()));
+    fn scratch(label: &str) -> PathBuf {
+        let dir = std::env::temp_dir().join(format!("ratewell-config-{label}-{}", std::process::id()));
         std::fs::create_dir_all(&dir).unwrap();
+        dir
+    }
+
+    /// Whether the test process's environment sets any setting (then clap would read it).
+    fn environment_is_clean() -> bool {
+        std::env::vars().all(|(k, _)| !k.starts_with("RATEWELL_"))
+    }
+
+    #[test]
+    fn flags_override_the_file_and_the_file_overrides_defaults() {
+        let dir = scratch("layers");
         let file = dir.join("server.toml");
         std::fs::write(
             &file,
-            "max_in_flight = 7\nmax_solve_points = 9\ndata_dir = \"sets\"\n\n[limits]\nmax_species = 4\n",
+            "max_in_flight = 7\nmax_solve_points = 9\ndata_dir = \"sets\"\njson_logs = true\n\n[limits]\nmax_species = 4\n",
         )
         .unwrap();
-        let flags = Flags {
-            config: Some(file.clone()),
-            max_in_flight: Some(3),
-            ..Flags::default()
-        };
-        let c = Config::resolve(&flags).unwrap();
+        let path = file.to_str().unwrap();
+        let (flags, c) =
+            Config::from_args(["ratewell-server", "--config", path, "--max-in-flight", "3"]).unwrap();
+        assert_eq!(flags.config.as_deref(), Some(file.as_path()));
         assert_eq!(c.max_in_flight, 3);
         assert_eq!(c.max_solve_points, 9);
+        assert!(c.json_logs);
         assert_eq!(c.limits.max_species, 4);
-        assert_eq!(c.limits.max_file_bytes, Limits::default().max_file_bytes);
+        assert_eq!(c.limits.max_file_bytes, DEFAULT_LIMITS.max_file_bytes);
+        // Relative paths in the file are relative to the file.
         assert_eq!(c.data_dir, Some(dir.join("sets")));
-        assert_eq!(c.listen, SocketAddr::from(([127, 0, 0, 1], 50051)));
+        assert_eq!(c.listen, DEFAULTS.listen);
+        // A boolean the file switched on, switched off by a flag; a limit by its own flag.
+        let (_, c) = Config::from_args([
+            "ratewell-server",
+            "--config",
+            path,
+            "--json-logs",
+            "false",
+            "--max-species=11",
+        ])
+        .unwrap();
+        assert!(!c.json_logs);
+        assert_eq!(c.limits.max_species, 11);
         std::fs::remove_dir_all(&dir).unwrap();
     }
 
     #[test]
-    fn bad_settings_name_the_field() {
-        let dir = std::env::temp_dir().join(format!("ratewell-config-bad-{}", std::process::id()));
-        std::fs::create_dir_all(&dir).unwrap();
-        let file = dir.join("server.toml");
-        std::fs::write(&file, "max_in_flihgt = 7\n").unwrap();
-        let err = Config::resolve(&Flags {
-            config: Some(file),
-            ..Flags::default()
-        })
-        .unwrap_err();
-        assert!(err.to_string().contains("max_in_flihgt"), "{err}");
+    fn without_any_layer_the_settings_are_the_defaults_everywhere() {
+        if !environment_is_clean() {
+            return;
+        }
+        let (_, c) = Config::from_args(["ratewell-server"]).unwrap();
+        assert_eq!(c, DEFAULTS);
+        assert_eq!(Config::default(), DEFAULTS);
+        // clap's displayed defaults (written as text for durations) agree with DEFAULTS: the
+        // explicit layer is empty, and parsing the printed file gives the same settings back.
+        let dir = scratch("round-trip");
+        let file = dir.join("printed.toml");
+        std::fs::write(&file, DEFAULTS.to_toml()).unwrap();
+        let (_, back) = Config::from_args(["ratewell-server", "--config", file.to_str().unwrap()]).unwrap();
+        assert_eq!(back, DEFAULTS);
         std::fs::remove_dir_all(&dir).unwrap();
-        let err = Config::resolve(&Flags {
-            grid_t_min_k: Some(-5.0),
-            ..Flags::default()
-        })
-        .unwrap_err();
+        // The engine's own defaults are the server's.
+        let engine = EngineConfig::default();
+        let ours = DEFAULTS.engine_config();
+        assert_eq!(ours.default_grid, engine.default_grid);
+        assert_eq!(ours.limits, engine.limits);
+        assert_eq!(ours.max_lookup_values, engine.max_lookup_values);
+        assert_eq!(ours.max_solve_points, engine.max_solve_points);
+    }
+
+    #[test]
+    fn every_setting_has_a_flag_an_environment_variable_a_file_key_and_help() {
+        let command = Flags::command();
+        let help = Flags::command().render_long_help().to_string();
+        let mut keys = Vec::new();
+        fn leaves(prefix: &str, dict: &Dict, out: &mut Vec<(String, String)>) {
+            for (k, v) in dict {
+                match v {
+                    Value::Dict(_, inner) => leaves(&format!("{prefix}{k}."), inner, out),
+                    _ => out.push((format!("{prefix}{k}"), k.clone())),
+                }
+            }
+        }
+        // Every setting, Option settings included (set so they serialize).
+        let mut all = DEFAULTS;
+        all.data_dir = Some("d".into());
+        all.tokens_file = Some("t".into());
+        all.tls_cert_file = Some("c".into());
+        all.tls_key_file = Some("k".into());
+        all.metrics_listen = Some(DEFAULTS.listen);
+        leaves(
+            "",
+            &Value::serialize(&all).unwrap().into_dict().unwrap(),
+            &mut keys,
+        );
+        assert_eq!(keys.len(), 23 + 12, "{keys:?}");
+        for (file_key, id) in &keys {
+            let arg = command
+                .get_arguments()
+                .find(|a| a.get_id().as_str() == id)
+                .unwrap_or_else(|| panic!("file key {file_key} has no flag"));
+            let long = arg.get_long().expect("a long flag");
+            assert_eq!(long, id.replace('_', "-"), "{file_key}");
+            let env = arg.get_env().expect("an environment variable");
+            assert_eq!(env.to_str().unwrap(), format!("RATEWELL_{}", id.to_uppercase()));
+            assert!(help.contains(&format!("--{long}")), "--help lacks --{long}");
+            assert!(
+                arg.get_long_help().or(arg.get_help()).is_some(),
+                "--{long} has no help"
+            );
+        }
+        // ...and every flag but the process's own is a setting.
+        let settings = command
+            .get_arguments()
+            .filter(|a| {
+                !["check_dataset", "config", "print_config", "help", "version"].contains(&a.get_id().as_str())
+            })
+            .count();
+        assert_eq!(settings, keys.len());
+    }
+
+    #[test]
+    fn bad_settings_name_the_field() {
+        let dir = scratch("bad");
+        let file = dir.join("server.toml");
+        for (text, named) in [
+            ("max_in_flihgt = 7\n", "max_in_flihgt"),
+            ("max_in_flight = \"x\"\n", "max_in_flight: invalid type"),
+            (
+                "drain_s = -1\n",
+                "drain_s: -1: must be a number of seconds within [0, 86400]",
+            ),
+            ("[limits]\nmax_speceis = 3\n", "limits.max_speceis"),
+            (
+                "[limits]\nmax_species = 0\n",
+                "config max_species = 0: must be at least 1",
+            ),
+            ("[limits\n", "line 1"),
+        ] {
+            std::fs::write(&file, text).unwrap();
+            let err = Config::from_args(["ratewell-server", "--config", file.to_str().unwrap()]).unwrap_err();
+            assert!(err.to_string().contains(named), "{text:?}: {err}");
+            assert!(!matches!(err, ConfigError::Usage(_)), "{err}");
+        }
+        std::fs::remove_dir_all(&dir).unwrap();
+        let err = Config::from_args(["ratewell-server", "--grid-t-min-k=-5"]).unwrap_err();
         assert!(err.to_string().contains("grid"), "{err}");
+        for args in [
+            ["ratewell-server", "--demo", "maybe"],
+            ["ratewell-server", "--drain-s", "x"],
+        ] {
+            let err = Config::from_args(args).unwrap_err();
+            assert!(matches!(err, ConfigError::Usage(_)), "{err}");
+        }
+        let err = Config::from_args(["ratewell-server", "--demo", "off"]).unwrap_err();
+        assert!(
+            err.to_string()
+                .contains("with the demo off, a data_dir is needed"),
+            "{err}"
+        );
     }
 }

@@ -1,10 +1,11 @@
 //! Resource limits: what one dataset may hold, what work one request may cause, how many bytes
 //! of tables the cache keeps, and how many connections and streams the transport accepts.
-//! Every limit is a setting (the `[limits]` table of the config file; a few also as flags) and
+//! Every limit is a setting (the `[limits]` table of the config file, a flag and an environment
+//! variable; see `crate::config`) and
 //! every refusal is a [`LimitError`] naming the quantity, its value, the limit and the setting
 //! to raise, checked before the work or allocation it guards.
 
-use serde::Deserialize;
+use serde::{Deserialize, Serialize};
 use std::time::Duration;
 
 /// A quantity over its configured limit.
@@ -49,56 +50,71 @@ pub fn check(
     }
 }
 
-/// Every limit. Defaults are sized for a host with a few GB of memory.
-#[derive(Debug, Clone, Copy, PartialEq, Deserialize)]
+/// Every limit. Defaults ([`DEFAULT_LIMITS`]) are sized for a host with a few GB of memory.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize, clap::Args)]
 #[serde(default, deny_unknown_fields)]
 pub struct Limits {
     /// Largest single dataset file, bytes (checked before it is read).
+    #[arg(long, env = "RATEWELL_MAX_FILE_BYTES", default_value_t = DEFAULT_LIMITS.max_file_bytes)]
     pub max_file_bytes: u64,
     /// Largest total of a dataset folder's files, bytes.
+    #[arg(long, env = "RATEWELL_MAX_DATASET_BYTES", default_value_t = DEFAULT_LIMITS.max_dataset_bytes)]
     pub max_dataset_bytes: u64,
     /// Most species in one dataset.
+    #[arg(long, env = "RATEWELL_MAX_SPECIES", default_value_t = DEFAULT_LIMITS.max_species)]
     pub max_species: u64,
-    /// Most levels in one species (a solve holds a levels x levels matrix per thread).
+    /// Most levels in one species (a solve holds a levels x levels matrix per thread; 3,000 levels:
+    /// 72 MB).
+    #[arg(long, env = "RATEWELL_MAX_LEVELS_PER_SPECIES", default_value_t = DEFAULT_LIMITS.max_levels_per_species)]
     pub max_levels_per_species: u64,
-    /// Most transitions (radiative plus collisional) in one dataset.
+    /// Most transitions (radiative plus collisional) in one dataset (200,000: about 0.5 GB of
+    /// default-grid tables).
+    #[arg(long, env = "RATEWELL_MAX_TRANSITIONS", default_value_t = DEFAULT_LIMITS.max_transitions)]
     pub max_transitions: u64,
-    /// Byte budget of tables cached on non-default grids (default-grid tables of loaded
-    /// datasets are kept apart and never evicted).
+    /// Byte budget of tables cached on non-default grids (default-grid tables of loaded datasets
+    /// are kept apart and never evicted).
+    #[arg(long, env = "RATEWELL_TABLE_CACHE_BYTES", default_value_t = DEFAULT_LIMITS.table_cache_bytes)]
     pub table_cache_bytes: u64,
-    /// Largest grid knots x transitions one request may cause to be built on a non-default grid
-    /// (a comparison counts both datasets).
+    /// Largest grid knots x transitions one request may cause to be built on a non-default grid (a
+    /// comparison counts both datasets).
+    #[arg(long, env = "RATEWELL_MAX_TABLE_VALUES_PER_REQUEST", default_value_t = DEFAULT_LIMITS.max_table_values_per_request)]
     pub max_table_values_per_request: u64,
     /// Largest points x levels^2 of one population solve.
+    #[arg(long, env = "RATEWELL_MAX_SOLVE_WORK", default_value_t = DEFAULT_LIMITS.max_solve_work)]
     pub max_solve_work: u64,
     /// Largest number of transitions one comparison may cover.
+    #[arg(long, env = "RATEWELL_MAX_COMPARE_TRANSITIONS", default_value_t = DEFAULT_LIMITS.max_compare_transitions)]
     pub max_compare_transitions: u64,
     /// Most TCP connections served at once; further ones are closed at accept.
+    #[arg(long, env = "RATEWELL_MAX_CONNECTIONS", default_value_t = DEFAULT_LIMITS.max_connections)]
     pub max_connections: u64,
     /// Longest time a new connection may take to send the HTTP/2 preface, seconds.
+    #[arg(long, env = "RATEWELL_HANDSHAKE_TIMEOUT_S", default_value_t = DEFAULT_LIMITS.handshake_timeout_s)]
     pub handshake_timeout_s: f64,
     /// Most concurrent streams per HTTP/2 connection.
+    #[arg(long, env = "RATEWELL_MAX_STREAMS_PER_CONNECTION", default_value_t = DEFAULT_LIMITS.max_streams_per_connection)]
     pub max_streams_per_connection: u32,
 }
 
+/// Every limit's default.
+pub const DEFAULT_LIMITS: Limits = Limits {
+    max_file_bytes: 64 << 20,
+    max_dataset_bytes: 256 << 20,
+    max_species: 1_000,
+    max_levels_per_species: 3_000,
+    max_transitions: 200_000,
+    table_cache_bytes: 256 << 20,
+    max_table_values_per_request: 20_000_000,
+    max_solve_work: 20_000_000_000,
+    max_compare_transitions: 400_000,
+    max_connections: 1_000,
+    handshake_timeout_s: 10.0,
+    max_streams_per_connection: 256,
+};
+
 impl Default for Limits {
     fn default() -> Self {
-        Self {
-            max_file_bytes: 64 << 20,
-            max_dataset_bytes: 256 << 20,
-            max_species: 1_000,
-            // 3,000 levels: a 72 MB matrix per solving thread.
-            max_levels_per_species: 3_000,
-            // About 0.5 GB of default-grid tables (161 knots, 16 bytes each per transition).
-            max_transitions: 200_000,
-            table_cache_bytes: 256 << 20,
-            max_table_values_per_request: 20_000_000,
-            max_solve_work: 20_000_000_000,
-            max_compare_transitions: 400_000,
-            max_connections: 1_000,
-            handshake_timeout_s: 10.0,
-            max_streams_per_connection: 256,
-        }
+        DEFAULT_LIMITS
     }
 }
 

@@ -222,7 +222,7 @@ pub async fn serve(
         .layer(crate::api::wire_status::WireStatusLayer)
         .layer(tonic::service::InterceptorLayer::new(crate::api::record_arrival))
         .layer(AuthLayer::new(token_gate.clone()));
-    if let Some(age) = config.max_connection_age {
+    if let Some(age) = config.connection_age() {
         // Calls in flight when a connection reaches its age finish (up to the request timeout).
         builder = builder
             .max_connection_age(age)
@@ -270,7 +270,10 @@ pub async fn serve(
         max_lookup_values = config.max_lookup_values,
         max_solve_points = config.max_solve_points,
         request_timeout_s = config.request_timeout.as_secs_f64(),
-        grid = ?config.default_grid,
+        grid = %format!(
+            "{} K to {} K at {} per decade",
+            config.grid_t_min_k, config.grid_t_max_k, config.grid_points_per_decade
+        ),
         table_bytes = state.engine.table_bytes(),
         tls = config.tls_cert_file.is_some(),
         tokens = token_gate.token_count(),

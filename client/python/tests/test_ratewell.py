@@ -145,12 +145,16 @@ def test_table_files_round_trip_and_damaged_files_are_refused(tables, tmp_path):
     for a, b in zip(tables.evaluate(t), loaded.evaluate(t)):
         assert np.array_equal(a.view(np.uint8), b.view(np.uint8))
     data = bytearray(open(path, "rb").read())
-    data[len(data) // 2] ^= 1
-    bad = tmp_path / "bad.rwtables"
-    bad.write_bytes(bytes(data))
-    with pytest.raises(ratewell.RatewellError) as info:
-        ratewell.load_tables(bad)
-    assert info.value.code == "table_file" and "checksum mismatch" in str(info.value)
+    # A byte of a table (past the middle of the file) and a byte of the header: each is caught,
+    # the first by the table-set digest, the second by the header's checksum.
+    for at, problem in [(len(data) // 2, "table-set digest mismatch"), (20, "checksum mismatch")]:
+        damaged = bytearray(data)
+        damaged[at] ^= 1
+        bad = tmp_path / "bad.rwtables"
+        bad.write_bytes(bytes(damaged))
+        with pytest.raises(ratewell.RatewellError) as info:
+            ratewell.load_tables(bad)
+        assert info.value.code == "table_file" and problem in str(info.value), str(info.value)
 
 
 def test_the_cache_folder_serves_a_second_connection(tmp_path):

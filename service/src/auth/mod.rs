@@ -53,7 +53,9 @@ pub enum TokensFileError {
 }
 
 /// Which calls need a token.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, serde::Deserialize, clap::ValueEnum)]
+#[derive(
+    Debug, Clone, Copy, PartialEq, Eq, Default, serde::Serialize, serde::Deserialize, clap::ValueEnum,
+)]
 #[serde(rename_all = "lowercase")]
 pub enum Scope {
     /// Only Admin calls (the default).
