@@ -184,7 +184,7 @@ impl RateLookup {
             species: response.species,
             transitions: response.transitions.into_iter().map(Transition::from).collect(),
             temperature_count: n_temp,
-            rate_unit: RateUnit::from_wire(response.rate_unit)?,
+            rate_unit: crate::units::answer_rate_unit(response.rate_unit)?,
             excitation,
             deexcitation,
             flags: response.flags,

@@ -60,7 +60,7 @@ async fn zero_and_negative_densities_are_refused() {
     assert_status(
         &status,
         Code::InvalidArgument,
-        &["densities[1] = 0 cm^-3", "must be finite and > 0"],
+        &["densities[1] = 0 cm-3", "must be finite and > 0"],
     );
     let fields: Vec<String> = field_violations(&status).into_iter().map(|(f, _)| f).collect();
     assert_eq!(fields, ["densities[1]", "densities[2]"]);
@@ -68,7 +68,7 @@ async fn zero_and_negative_densities_are_refused() {
     let mut req = solve(MK_III, vec![1e4], vec![-3e6], false);
     req.density_unit = pb::DensityUnit::PerCubicMetre as i32;
     let status = refused(server.populations().solve_populations(req).await);
-    assert_status(&status, Code::InvalidArgument, &["densities[0] = -3000000 m^-3"]);
+    assert_status(&status, Code::InvalidArgument, &["densities[0] = -3000000 m-3"]);
 
     // Pairs need equal lengths.
     let req = solve(MK_III, vec![1e4, 2e4], vec![1e3], false);

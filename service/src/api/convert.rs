@@ -1,13 +1,15 @@
 //! Every conversion between wire messages and engine types lives here.
 
 use crate::engine::compare::{CompareAnswer, CompareQuery};
+use crate::engine::describe::{CollisionForm, SpeciesDescription};
 use crate::engine::lookup::{LookupAnswer, LookupQuery};
 use crate::engine::solve::{PointLayout, SolveAnswer, SolveQuery};
-use crate::engine::units::{DensityUnit, PowerUnit, RateUnit, TemperatureUnit};
+use crate::engine::units::{DensityUnit, EnergyUnit, PowerUnit, RateUnit, TemperatureUnit};
 use crate::engine::{EngineError, GridSpec, Selector, Stamp};
 use crate::physics::emission::CRITICAL_DENSITY_DEFINITION;
 use ratewell_proto::pb;
 use ratewell_proto::rule::{Direction, OutsidePolicy};
+use ratewell_proto::units::WireUnitError;
 
 /// The wire stamp of an engine stamp.
 pub fn stamp(s: &Stamp) -> pb::DatasetStamp {
@@ -68,65 +70,43 @@ fn species_name(name: &str) -> Result<String, EngineError> {
 }
 
 fn temperature_unit(raw: i32) -> Result<TemperatureUnit, EngineError> {
-    match pb::TemperatureUnit::try_from(raw) {
-        Ok(pb::TemperatureUnit::Kelvin) => Ok(TemperatureUnit::Kelvin),
-        Ok(pb::TemperatureUnit::ElectronVolt) => Ok(TemperatureUnit::ElectronVolt),
-        Ok(pb::TemperatureUnit::Unspecified) | Err(_) => Err(EngineError::invalid(
+    TemperatureUnit::from_wire(raw).map_err(|_| {
+        EngineError::invalid(
             "temperature_unit",
             raw,
             "must be TEMPERATURE_UNIT_KELVIN (1) or TEMPERATURE_UNIT_ELECTRON_VOLT (2): units are never implied",
-        )),
-    }
+        )
+    })
 }
 
 fn density_unit(raw: i32) -> Result<DensityUnit, EngineError> {
-    match pb::DensityUnit::try_from(raw) {
-        Ok(pb::DensityUnit::PerCubicCentimetre) => Ok(DensityUnit::PerCubicCentimetre),
-        Ok(pb::DensityUnit::PerCubicMetre) => Ok(DensityUnit::PerCubicMetre),
-        Ok(pb::DensityUnit::Unspecified) | Err(_) => Err(EngineError::invalid(
+    DensityUnit::from_wire(raw).map_err(|_| {
+        EngineError::invalid(
             "density_unit",
             raw,
             "must be DENSITY_UNIT_PER_CUBIC_CENTIMETRE (1) or DENSITY_UNIT_PER_CUBIC_METRE (2)",
-        )),
-    }
+        )
+    })
 }
 
 fn rate_unit(raw: i32) -> Result<RateUnit, EngineError> {
-    match pb::RateUnit::try_from(raw) {
-        Ok(pb::RateUnit::CubicCentimetrePerSecond) => Ok(RateUnit::CubicCentimetrePerSecond),
-        Ok(pb::RateUnit::CubicMetrePerSecond) => Ok(RateUnit::CubicMetrePerSecond),
-        Ok(pb::RateUnit::Unspecified) | Err(_) => Err(EngineError::invalid(
+    RateUnit::from_wire(raw).map_err(|_| {
+        EngineError::invalid(
             "rate_unit",
             raw,
             "must be RATE_UNIT_CUBIC_CENTIMETRE_PER_SECOND (1) or RATE_UNIT_CUBIC_METRE_PER_SECOND (2)",
-        )),
-    }
-}
-
-fn rate_unit_to_wire(u: RateUnit) -> pb::RateUnit {
-    match u {
-        RateUnit::CubicCentimetrePerSecond => pb::RateUnit::CubicCentimetrePerSecond,
-        RateUnit::CubicMetrePerSecond => pb::RateUnit::CubicMetrePerSecond,
-    }
+        )
+    })
 }
 
 fn power_unit(raw: i32) -> Result<PowerUnit, EngineError> {
-    match pb::PowerUnit::try_from(raw) {
-        Ok(pb::PowerUnit::Watt) => Ok(PowerUnit::Watt),
-        Ok(pb::PowerUnit::ErgPerSecond) => Ok(PowerUnit::ErgPerSecond),
-        Ok(pb::PowerUnit::Unspecified) | Err(_) => Err(EngineError::invalid(
+    PowerUnit::from_wire(raw).map_err(|_| {
+        EngineError::invalid(
             "power_unit",
             raw,
             "must be POWER_UNIT_WATT (1) or POWER_UNIT_ERG_PER_SECOND (2)",
-        )),
-    }
-}
-
-fn power_unit_to_wire(u: PowerUnit) -> pb::PowerUnit {
-    match u {
-        PowerUnit::Watt => pb::PowerUnit::Watt,
-        PowerUnit::ErgPerSecond => pb::PowerUnit::ErgPerSecond,
-    }
+        )
+    })
 }
 
 fn direction(raw: i32) -> Result<Direction, EngineError> {
@@ -181,7 +161,7 @@ pub fn lookup_answer(a: LookupAnswer) -> pb::LookupRatesResponse {
             .map(|&(upper, lower)| pb::TransitionKey { upper, lower })
             .collect(),
         temperature_count: a.temperature_count as u32,
-        rate_unit: rate_unit_to_wire(a.rate_unit) as i32,
+        rate_unit: a.rate_unit.to_wire(),
         excitation: a.excitation,
         deexcitation: a.deexcitation,
         flags: a.flags,
@@ -225,7 +205,7 @@ pub fn solve_answer(a: SolveAnswer) -> pb::SolvePopulationsResponse {
     pb::SolvePopulationsResponse {
         stamp: Some(stamp(&a.stamp)),
         species: a.species,
-        power_unit: power_unit_to_wire(a.power_unit) as i32,
+        power_unit: a.power_unit.to_wire(),
         level_count: a.level_count as u32,
         critical_densities_per_cm3: critical,
         critical_density_definition: CRITICAL_DENSITY_DEFINITION.to_owned(),
@@ -289,5 +269,66 @@ pub fn compare_answer(a: CompareAnswer) -> pb::CompareDatasetsResponse {
         only_in_first: a.only_in_first,
         only_in_second: a.only_in_second,
         level_mismatches: a.level_mismatches,
+    }
+}
+
+/// The asked energy unit of a species description; unspecified means cm^-1.
+pub fn energy_unit(raw: i32) -> Result<EnergyUnit, EngineError> {
+    match EnergyUnit::from_wire(raw) {
+        Ok(unit) => Ok(unit),
+        Err(WireUnitError::Unspecified) => Ok(EnergyUnit::InverseCentimetre),
+        Err(WireUnitError::Unknown(_)) => Err(EngineError::invalid(
+            "energy_unit",
+            raw,
+            "must be ENERGY_UNIT_INVERSE_CENTIMETRE (1), ENERGY_UNIT_ELECTRON_VOLT (2) or ENERGY_UNIT_JOULE (3)",
+        )),
+    }
+}
+
+/// A species description on the wire.
+pub fn species_description_to_wire(d: SpeciesDescription) -> pb::DescribeSpeciesResponse {
+    let unit = d.energy_unit.to_wire();
+    pb::DescribeSpeciesResponse {
+        stamp: Some(stamp(&d.stamp)),
+        species: d.species,
+        element: d.element,
+        nuclear_charge: d.nuclear_charge,
+        ion_charge: d.ion_charge,
+        levels: d
+            .levels
+            .into_iter()
+            .map(|l| pb::LevelInfo {
+                index: l.index,
+                label: l.label,
+                statistical_weight: l.weight,
+                energy: l.energy,
+                energy_unit: unit,
+            })
+            .collect(),
+        transitions: d
+            .transitions
+            .into_iter()
+            .map(|t| pb::TransitionInfo {
+                key: Some(pb::TransitionKey {
+                    upper: t.upper,
+                    lower: t.lower,
+                }),
+                a_per_s: t.a_per_s,
+                oscillator_strength: t.oscillator_strength,
+                wavelength_vacuum_angstrom: t.wavelength_vacuum_angstrom,
+                has_collision_data: t.collision.is_some(),
+                collision_source: match t.collision {
+                    Some(CollisionForm::EffectiveTable) => pb::CollisionSource::EffectiveTable,
+                    Some(CollisionForm::StrengthTable) => pb::CollisionSource::StrengthTable,
+                    Some(CollisionForm::Approximation) => pb::CollisionSource::Approximation,
+                    None => pb::CollisionSource::Unspecified,
+                } as i32,
+                scaling_type: t.scaling_type,
+                source_t_min_k: t.source_range_k.0,
+                source_t_max_k: t.source_range_k.1,
+                source: t.source,
+                uncertainty: t.uncertainty,
+            })
+            .collect(),
     }
 }

@@ -16,6 +16,7 @@ pub mod admit;
 pub mod cancel;
 pub mod compare;
 pub mod density_check;
+pub mod describe;
 pub mod error;
 pub mod folders;
 pub mod lookup;

@@ -4,7 +4,7 @@ use crate::args::SpeciesArgs;
 use crate::context::Context;
 use crate::error::CliError;
 use crate::output::{Table, json_text, sci, stamp_json, stamp_line};
-use ratewell_client::{EnergyUnit, Transition, pb, short_hash};
+use ratewell_client::{Transition, pb, short_hash};
 use serde_json::json;
 
 /// `datasets`.
@@ -67,7 +67,7 @@ pub(crate) async fn species(ctx: &Context, a: &SpeciesArgs) -> Result<String, Cl
 }
 
 fn energy_symbol(l: &pb::LevelInfo) -> &'static str {
-    EnergyUnit::wire_symbol(l.energy_unit)
+    ratewell_client::units::energy_unit_symbol(l.energy_unit)
 }
 
 fn source_name(v: i32) -> &'static str {
