@@ -226,6 +226,25 @@ impl TestServer {
             .max_encoding_message_size(CLIENT_MAX_MESSAGE_BYTES)
     }
 
+    /// A LookupRatesStream fed by the returned sender (room for `buffer` waiting messages),
+    /// with the stream of its answers.
+    pub async fn open_lookup_stream(
+        &self,
+        buffer: usize,
+    ) -> (
+        tokio::sync::mpsc::Sender<ratewell_proto::pb::LookupRatesRequest>,
+        tonic::Streaming<ratewell_proto::pb::LookupRatesResponse>,
+    ) {
+        let (tx, rx) = tokio::sync::mpsc::channel(buffer);
+        let answers = self
+            .rates()
+            .lookup_rates_stream(tokio_stream::wrappers::ReceiverStream::new(rx))
+            .await
+            .expect("stream opened")
+            .into_inner();
+        (tx, answers)
+    }
+
     /// Catalogue client.
     pub fn catalogue(&self) -> CatalogueClient<Channel> {
         CatalogueClient::new(self.channel())

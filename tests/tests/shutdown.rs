@@ -10,9 +10,7 @@ use ratewell_e2e::requests::{BIG_SOLVE_AXIS, MK_III, assert_status, big_solve, l
 use ratewell_e2e::{TestServer, test_config};
 use ratewell_proto::pb;
 use std::time::{Duration, Instant};
-use tokio::sync::mpsc;
 use tokio::task::JoinHandle;
-use tokio_stream::wrappers::ReceiverStream;
 use tonic::{Code, Status};
 
 type SolveTask = JoinHandle<Result<pb::SolvePopulationsResponse, Status>>;
@@ -136,13 +134,7 @@ async fn a_stream_still_open_when_the_grace_runs_out_ends_with_unavailable() {
         ..test_config()
     };
     let mut server = TestServer::start_with(config).await;
-    let (tx, rx) = mpsc::channel(1);
-    let mut answers = server
-        .rates()
-        .lookup_rates_stream(ReceiverStream::new(rx))
-        .await
-        .expect("stream opened")
-        .into_inner();
+    let (tx, mut answers) = server.open_lookup_stream(1).await;
     tx.send(lookup(MK_III, vec![1e4])).await.expect("send");
     answers.message().await.expect("an answer").expect("open");
     server.begin_shutdown();

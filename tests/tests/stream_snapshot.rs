@@ -10,8 +10,6 @@ use ratewell_proto::pb;
 use std::collections::BTreeSet;
 use std::sync::Arc;
 use std::sync::atomic::{AtomicBool, Ordering};
-use tokio::sync::mpsc;
-use tokio_stream::wrappers::ReceiverStream;
 
 /// Messages the stream answers after the reload has finished.
 const AFTER_RELOAD: usize = 50;
@@ -37,13 +35,7 @@ async fn a_stream_keeps_its_first_dataset_while_a_reload_swaps_in_a_new_version(
     // Added after the start, so only a reload loads it.
     data.add_demo_v2("demo-v2");
 
-    let (tx, rx) = mpsc::channel(4);
-    let mut answers = server
-        .rates()
-        .lookup_rates_stream(ReceiverStream::new(rx))
-        .await
-        .expect("stream opened")
-        .into_inner();
+    let (tx, mut answers) = server.open_lookup_stream(4).await;
     let mut ask = async |req: pb::LookupRatesRequest| {
         tx.send(req).await.expect("send");
         answers

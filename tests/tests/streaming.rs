@@ -6,8 +6,6 @@
 use ratewell_e2e::TestServer;
 use ratewell_e2e::requests::{MK_II, MK_III, assert_status, key, log_spaced, lookup, selector};
 use ratewell_proto::pb;
-use tokio::sync::mpsc;
-use tokio_stream::wrappers::ReceiverStream;
 use tonic::Code;
 
 #[tokio::test(flavor = "multi_thread", worker_threads = 2)]
@@ -21,13 +19,7 @@ async fn each_message_is_answered_before_the_next_is_sent() {
     requests[2].transitions = vec![key(4, 1), key(5, 2)];
     requests[2].direction = pb::Direction::Excitation as i32;
 
-    let (tx, rx) = mpsc::channel(1);
-    let mut answers = server
-        .rates()
-        .lookup_rates_stream(ReceiverStream::new(rx))
-        .await
-        .expect("stream opened")
-        .into_inner();
+    let (tx, mut answers) = server.open_lookup_stream(1).await;
     for req in &requests {
         tx.send(req.clone()).await.expect("send");
         let streamed = answers
@@ -60,13 +52,7 @@ async fn each_message_is_answered_before_the_next_is_sent() {
 #[tokio::test(flavor = "multi_thread", worker_threads = 2)]
 async fn a_bad_message_ends_the_stream_with_its_status() {
     let server = TestServer::start().await;
-    let (tx, rx) = mpsc::channel(1);
-    let mut answers = server
-        .rates()
-        .lookup_rates_stream(ReceiverStream::new(rx))
-        .await
-        .expect("stream opened")
-        .into_inner();
+    let (tx, mut answers) = server.open_lookup_stream(1).await;
     tx.send(lookup(MK_III, vec![1e4])).await.expect("send");
     answers.message().await.expect("good answer").expect("open");
     tx.send(lookup(MK_III, vec![1e4, f64::NAN])).await.expect("send");
@@ -78,13 +64,7 @@ async fn a_bad_message_ends_the_stream_with_its_status() {
     );
 
     // A pinned hash that differs is refused inside a stream too.
-    let (tx, rx) = mpsc::channel(1);
-    let mut answers = server
-        .rates()
-        .lookup_rates_stream(ReceiverStream::new(rx))
-        .await
-        .expect("stream opened")
-        .into_inner();
+    let (tx, mut answers) = server.open_lookup_stream(1).await;
     let mut req = lookup(MK_III, vec![1e4]);
     let mut pinned = selector("demo", "");
     pinned.expected_content_hash = "0".repeat(64);
