@@ -86,7 +86,7 @@ mod tests {
         }
     }
 
-    // Caching behaviour: common practice, no source (the brief asks that a job fetch once).
+    // Caching behaviour: common practice, no source (a job fetches each table set once).
     #[tokio::test]
     async fn concurrent_requests_fetch_once_and_failures_are_not_kept() {
         let cache = Arc::new(TableCache::default());

@@ -150,6 +150,41 @@ pub(crate) fn sci(v: f64) -> String {
     format!("{v:.5e}")
 }
 
+/// `v` to `digits` significant digits with no trailing zeros: plain between 1e-3 and 1e6,
+/// scientific outside (`2.08e-6`); exactly 0 as `0`.
+pub(crate) fn sig(v: f64, digits: usize) -> String {
+    let digits = digits.max(1);
+    if v == 0.0 || !v.is_finite() {
+        return v.to_string();
+    }
+    let magnitude = v.abs().log10().floor() as i32;
+    if (-3..6).contains(&magnitude) {
+        let decimals = (digits as i32 - 1 - magnitude).max(0) as usize;
+        let text = format!("{v:.decimals$}");
+        if text.contains('.') {
+            text.trim_end_matches('0').trim_end_matches('.').to_string()
+        } else {
+            text
+        }
+    } else {
+        let text = format!("{v:.prec$e}", prec = digits - 1);
+        match text.split_once('e') {
+            Some((mantissa, exponent)) if mantissa.contains('.') => {
+                format!(
+                    "{}e{exponent}",
+                    mantissa.trim_end_matches('0').trim_end_matches('.')
+                )
+            }
+            _ => text,
+        }
+    }
+}
+
+/// `-` for a value the data do not give (stored as 0), else `shown(v)`.
+pub(crate) fn given(v: f64, shown: impl Fn(f64) -> String) -> String {
+    if v == 0.0 { "-".into() } else { shown(v) }
+}
+
 /// Pretty JSON text with a final newline.
 pub(crate) fn json_text(v: &Value) -> String {
     let mut s = serde_json::to_string_pretty(v).unwrap_or_else(|e| format!("{{\"error\": \"{e}\"}}"));
@@ -167,6 +202,20 @@ mod tests {
         t.row(vec!["a".into(), "1.5".into()]);
         t.row(vec!["longer".into(), "-12.25".into()]);
         assert_eq!(t.render(), "name     value\na          1.5\nlonger  -12.25\n");
+    }
+
+    #[test]
+    fn numbers_show_the_digits_that_mean_something() {
+        assert_eq!(sig(15316.2, 7), "15316.2");
+        assert_eq!(sig(1.898_972_600_123, 4), "1.899");
+        assert_eq!(sig(2.08e-6, 3), "2.08e-6");
+        assert_eq!(sig(1.27, 3), "1.27");
+        assert_eq!(sig(1.0e9, 4), "1e9");
+        assert_eq!(sig(147.999_999_9, 4), "148");
+        assert_eq!(sig(0.001, 4), "0.001");
+        assert_eq!(sig(0.0, 4), "0");
+        assert_eq!(given(0.0, |v| sig(v, 3)), "-");
+        assert_eq!(given(0.1, |v| sig(v, 3)), "0.1");
     }
 
     #[test]

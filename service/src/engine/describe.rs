@@ -124,7 +124,9 @@ fn describe(species: &Species, unit: EnergyUnit, stamp: Stamp) -> SpeciesDescrip
             if let Some(r) = radiative {
                 sources.push(&r.source);
             }
-            if let Some(c) = collision {
+            if let Some(c) = collision
+                && !sources.contains(&c.source.as_str())
+            {
                 sources.push(&c.source);
             }
             TransitionDescription {

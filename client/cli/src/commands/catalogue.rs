@@ -3,7 +3,7 @@
 use crate::args::SpeciesArgs;
 use crate::context::Context;
 use crate::error::CliError;
-use crate::output::{Table, json_text, sci, stamp_json, stamp_line};
+use crate::output::{Table, given, json_text, sig, stamp_json, stamp_line};
 use ratewell_client::{Transition, pb, short_hash};
 use serde_json::json;
 
@@ -92,17 +92,17 @@ pub(crate) fn species_text(d: &pb::DescribeSpeciesResponse) -> String {
         t.row(vec![
             l.index.to_string(),
             l.label.clone(),
-            l.statistical_weight.to_string(),
-            l.energy.to_string(),
+            sig(l.statistical_weight, 6),
+            sig(l.energy, 7),
         ]);
     }
     out.push_str(&t.render());
     out.push_str("\ntransitions\n");
     let mut t = Table::new(&[
         "TRANSITION",
-        "A_PER_S",
+        "EINSTEIN_A_PER_S",
         "F_ABS",
-        "WAVELENGTH_A",
+        "VAC_WAVELENGTH_ANGSTROM",
         "COLLISIONS",
         "SCALING",
         "SOURCE_T_K",
@@ -121,20 +121,28 @@ pub(crate) fn species_text(d: &pb::DescribeSpeciesResponse) -> String {
             approximate += 1;
         }
         let range = if tr.source_t_max_k > 0.0 {
-            format!("{}..{}", tr.source_t_min_k, tr.source_t_max_k)
+            format!("{}..{}", sig(tr.source_t_min_k, 4), sig(tr.source_t_max_k, 4))
         } else {
             "-".into()
         };
         t.row(vec![
             key.to_string(),
-            sci(tr.a_per_s),
-            tr.oscillator_strength.to_string(),
-            format!("{:.3}", tr.wavelength_vacuum_angstrom),
+            given(tr.a_per_s, |v| sig(v, 4)),
+            given(tr.oscillator_strength, |v| sig(v, 4)),
+            given(tr.wavelength_vacuum_angstrom, |v| sig(v, 7)),
             collisions.to_string(),
-            tr.scaling_type.clone(),
+            if tr.scaling_type.is_empty() {
+                "-".into()
+            } else {
+                tr.scaling_type.clone()
+            },
             range,
-            tr.uncertainty.to_string(),
-            tr.source.clone(),
+            given(tr.uncertainty, |v| format!("{}%", sig(100.0 * v, 3))),
+            if tr.source.is_empty() {
+                "-".into()
+            } else {
+                tr.source.clone()
+            },
         ]);
     }
     out.push_str(&t.render());
@@ -239,6 +247,13 @@ mod tests {
             "{text}"
         );
         assert!(text.contains("ENERGY_eV"), "{text}");
+        // No radiative data: the A value, f and uncertainty are absent, not 0.
+        let row = text.lines().find(|l| l.starts_with("2-1")).expect("the 2-1 row");
+        assert!(!row.contains(" 0 ") && row.contains(" - "), "{row}");
+        assert!(
+            text.contains("EINSTEIN_A_PER_S") && text.contains("VAC_WAVELENGTH_ANGSTROM"),
+            "{text}"
+        );
         assert!(text.contains("approximation"), "{text}");
         assert!(
             text.contains("caution: 1 transition(s) use an approximation formula"),

@@ -5,7 +5,7 @@ use crate::args::PopulationArgs;
 use crate::context::Context;
 use crate::error::CliError;
 use crate::output::{
-    Table, caution_lines, flag_legend, flag_letters, flag_names, json_text, sci, stamp_json, stamp_line,
+    Table, caution_lines, flag_legend, flag_letters, flag_names, json_text, sci, sig, stamp_json, stamp_line,
 };
 use indicatif::{ProgressBar, ProgressStyle};
 use ratewell_client::{OutsidePolicy, PopulationQuery, Transition, pb};
@@ -87,7 +87,7 @@ pub(crate) fn as_text(r: &pb::SolvePopulationsResponse, lines: usize) -> String 
     let mut any = 0;
     for pt in &r.points {
         any |= pt.flags;
-        let mut row = vec![pt.temperature_k.to_string(), sci(pt.density_per_cm3)];
+        let mut row = vec![sig(pt.temperature_k, 6), sig(pt.density_per_cm3, 6)];
         row.extend(pt.fractions.iter().map(|&f| sci(f)));
         row.extend([sci(pt.radiated_power), sci(pt.residual), flag_letters(pt.flags)]);
         t.row(row);
@@ -95,16 +95,16 @@ pub(crate) fn as_text(r: &pb::SolvePopulationsResponse, lines: usize) -> String 
     out.push_str(&t.render());
     if lines > 0 && r.points.iter().any(|pt| !pt.lines.is_empty()) {
         out.push_str(&format!("\nstrongest lines (emissivity per ion, {p})\n"));
-        let mut t = Table::new(&["T_K", "NE_CM-3", "LINE", "WAVELENGTH_A", "EMISSIVITY"]);
+        let mut t = Table::new(&["T_K", "NE_CM-3", "LINE", "VAC_WAVELENGTH_ANGSTROM", "EMISSIVITY"]);
         for pt in &r.points {
             let mut sorted: Vec<&pb::LineEmission> = pt.lines.iter().collect();
             sorted.sort_by(|a, b| b.emissivity.total_cmp(&a.emissivity));
             for line in sorted.into_iter().take(lines) {
                 t.row(vec![
-                    pt.temperature_k.to_string(),
-                    sci(pt.density_per_cm3),
+                    sig(pt.temperature_k, 6),
+                    sig(pt.density_per_cm3, 6),
                     Transition::from(line.key.unwrap_or_default()).to_string(),
-                    format!("{:.3}", line.wavelength_vacuum_angstrom),
+                    sig(line.wavelength_vacuum_angstrom, 7),
                     sci(line.emissivity),
                 ]);
             }
@@ -128,8 +128,13 @@ pub(crate) fn as_text(r: &pb::SolvePopulationsResponse, lines: usize) -> String 
             }
             seen.push(pt.temperature_k.to_bits());
             let nc = &r.critical_densities_per_cm3[i * levels..(i + 1) * levels];
-            let mut row = vec![pt.temperature_k.to_string()];
-            row.extend(nc[1..].iter().map(|&v| sci(v)));
+            let mut row = vec![sig(pt.temperature_k, 6)];
+            // Infinity: no collisional de-excitation (collisions never compete).
+            row.extend(
+                nc[1..]
+                    .iter()
+                    .map(|&v| if v.is_finite() { sci(v) } else { "-".into() }),
+            );
             t.row(row);
         }
         out.push_str(&t.render());

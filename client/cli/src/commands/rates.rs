@@ -4,7 +4,7 @@ use crate::args::RatesArgs;
 use crate::context::Context;
 use crate::error::CliError;
 use crate::output::{
-    Table, caution_lines, flag_legend, flag_letters, flag_names, json_text, sci, stamp_json, stamp_line,
+    Table, caution_lines, flag_legend, flag_letters, flag_names, json_text, sci, sig, stamp_json, stamp_line,
 };
 use ratewell_client::units::check_temperatures;
 use ratewell_client::{EvalOptions, OutsidePolicy, RateLookup, RateQuery, TemperatureUnit};
@@ -81,7 +81,7 @@ pub(crate) fn as_text(l: &RateLookup, temperatures: &[f64], unit: TemperatureUni
     for (ti, tr) in l.transitions.iter().enumerate() {
         for (j, temp) in temperatures.iter().enumerate().take(l.temperature_count) {
             let k = l.index(ti, j);
-            let mut row = vec![tr.to_string(), temp.to_string()];
+            let mut row = vec![tr.to_string(), sig(*temp, 6)];
             if has_exc {
                 row.push(sci(l.excitation[k]));
             }
@@ -171,9 +171,9 @@ mod tests {
             )
         );
         assert!(lines[1].contains("evaluated locally"), "{text}");
-        assert_eq!(lines[2], "TRANSITION       T_K  Q_LU_cm3/s  Q_UL_cm3/s  FLAGS");
-        assert_eq!(lines[3], "2-1             5000  1.00000e-9  3.00000e-9  -");
-        assert_eq!(lines[4], "2-1         20000000  2.00000e-9  4.00000e-9  SG");
+        assert_eq!(lines[2], "TRANSITION   T_K  Q_LU_cm3/s  Q_UL_cm3/s  FLAGS");
+        assert_eq!(lines[3], "2-1         5000  1.00000e-9  3.00000e-9  -");
+        assert_eq!(lines[4], "2-1          2e7  2.00000e-9  4.00000e-9  SG");
         assert!(lines[5].starts_with("flags: A approximate"), "{text}");
         assert_eq!(lines[6], "caution: server caution");
         assert!(
