@@ -4,7 +4,7 @@
 use crate::args::CompareArgs;
 use crate::context::Context;
 use crate::error::CliError;
-use crate::output::{Table, json_text, stamp_json, stamp_line};
+use crate::output::{Table, json_text, sig, stamp_json, stamp_line};
 use ratewell_client::{Client, DatasetRef, LocalComparison, compare_tables, pb, stamp_label};
 use serde_json::json;
 use std::collections::BTreeSet;
@@ -201,20 +201,30 @@ pub(crate) fn as_text(r: &Report) -> String {
         stamp_line(&r.second)
     );
     out.push_str(&format!("{}\n", verdict(r)));
-    out.push_str(&format!(
-        "{}; relative difference of the de-excitation rate coefficient, max over temperature\n",
-        r.mode
-    ));
-    let mut t = Table::new(&["SPECIES", "TRANSITION", "MAX_REL_DIFF", "AT_T_K"]);
-    for row in &r.rows {
-        t.row(vec![
-            row.species.clone(),
-            row.transition.clone(),
-            format!("{:.3e}", row.max_relative_difference),
-            format!("{:.6e}", row.at_temperature_k),
-        ]);
+    out.push_str(&format!("{}\n", summary(r)));
+    // Only what changed: a transition whose rates are equal at every temperature is counted
+    // in the summary, not listed.
+    let changed: Vec<&Row> = r
+        .rows
+        .iter()
+        .filter(|x| x.max_relative_difference != 0.0)
+        .collect();
+    if !changed.is_empty() {
+        out.push_str(&format!(
+            "{}; relative difference of the de-excitation rate coefficient, max over temperature\n",
+            r.mode
+        ));
+        let mut t = Table::new(&["SPECIES", "TRANSITION", "MAX_REL_DIFF", "AT_T_K"]);
+        for row in changed {
+            t.row(vec![
+                row.species.clone(),
+                row.transition.clone(),
+                format!("{:.3e}", row.max_relative_difference),
+                sig(row.at_temperature_k, 6),
+            ]);
+        }
+        out.push_str(&t.render());
     }
-    out.push_str(&t.render());
     for (label, list) in [
         (format!("only in {}", stamp_label(&r.first)), &r.only_in_first),
         (format!("only in {}", stamp_label(&r.second)), &r.only_in_second),
@@ -224,16 +234,41 @@ pub(crate) fn as_text(r: &Report) -> String {
             out.push_str(&format!("{label}: {}\n", list.join(", ")));
         }
     }
+    out
+}
+
+/// One line: how many compared transitions differ and by how much at most, and what is in one
+/// dataset only.
+pub(crate) fn summary(r: &Report) -> String {
+    let changed = r.rows.iter().filter(|x| x.max_relative_difference != 0.0).count();
     let worst = r
         .rows
         .iter()
-        .map(|x| x.max_relative_difference)
-        .fold(0.0, f64::max);
-    out.push_str(&format!(
-        "largest difference {worst:.3e} over {} transition(s)\n",
-        r.rows.len()
-    ));
-    out
+        .max_by(|a, b| a.max_relative_difference.total_cmp(&b.max_relative_difference));
+    let mut line = match worst {
+        Some(w) if changed > 0 => format!(
+            "summary: {changed} of {} transition(s) differ, largest {:.3e} ({} {} at {} K)",
+            r.rows.len(),
+            w.max_relative_difference,
+            w.species,
+            w.transition,
+            sig(w.at_temperature_k, 6)
+        ),
+        _ => format!(
+            "summary: no rate differs over the {} transition(s) compared",
+            r.rows.len()
+        ),
+    };
+    for (n, what) in [
+        (r.only_in_first.len(), "only in the first"),
+        (r.only_in_second.len(), "only in the second"),
+        (r.mismatches.len(), "with different levels or weights"),
+    ] {
+        if n > 0 {
+            line.push_str(&format!("; {n} {what}"));
+        }
+    }
+    line
 }
 
 pub(crate) fn as_json(r: &Report) -> String {
@@ -257,6 +292,7 @@ pub(crate) fn as_json(r: &Report) -> String {
         "only_in_second": r.only_in_second,
         "level_mismatches": r.mismatches,
         "verdict": verdict(r),
+        "summary": summary(r),
         "same_content": r.first.content_hash == r.second.content_hash,
         "same_tables_digest": r.first.tables_digest == r.second.tables_digest,
         "table_sets_compared": r.table_sets_compared,
@@ -300,12 +336,12 @@ mod tests {
             "{text}"
         );
         assert!(
-            text.contains("X        2-1             9.090e-2  1.000000e4"),
+            text.contains("X        2-1             9.090e-2   10000"),
             "{text}"
         );
         assert!(text.contains("only in demo@1.0.0: X 3-2"), "{text}");
         assert!(
-            text.contains("largest difference 9.090e-2 over 1 transition(s)"),
+            text.contains("summary: 1 of 1 transition(s) differ, largest 9.090e-2 (X 2-1 at 10000 K); 1 only in the first"),
             "{text}"
         );
     }
