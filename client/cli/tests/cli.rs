@@ -189,11 +189,15 @@ fn export_health_species_and_populations_run() {
     );
     assert!(out.status.success(), "{}", text(&out.stderr));
     let csv = std::fs::read_to_string(&file).unwrap();
-    assert!(csv.starts_with(&format!(
-        "# ratewell tables: dataset=demo version=1.0.0 content_hash={HASH_A}"
-    )));
-    // 3 tables x 31 knots + the two header lines.
-    assert_eq!(csv.lines().count(), 3 * 31 + 2);
+    assert!(csv.starts_with("species,upper,lower,temperature_k,"), "{csv}");
+    assert!(
+        csv.lines()
+            .nth(1)
+            .is_some_and(|l| l.contains(&format!(",demo,1.0.0,{HASH_A},"))),
+        "{csv}"
+    );
+    // 3 tables x 31 knots + the header row.
+    assert_eq!(csv.lines().count(), 3 * 31 + 1);
     std::fs::remove_dir_all(&dir).unwrap();
 
     let out = ratewell(&server.url(), &["health"]);

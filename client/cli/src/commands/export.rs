@@ -1,11 +1,11 @@
 //! `export`: a species' tables evaluated at their grid knots (T, Upsilon, q_ul, q_lu per
-//! transition) as CSV or JSON, with the dataset stamp in a header line or field.
+//! transition) as plain CSV (the stamp in every row's last columns) or JSON (the stamp in a field).
 
 use crate::args::{ExportArgs, ExportFormat};
 use crate::context::Context;
 use crate::error::CliError;
 use crate::output::{flag_names, json_text, stamp_json};
-use ratewell_client::{ClientError, LocalTables, OutsidePolicy};
+use ratewell_client::{ClientError, LocalTables, OutsidePolicy, flags};
 use serde_json::json;
 
 /// `export`.
@@ -37,37 +37,37 @@ pub(crate) async fn run(ctx: &Context, a: &ExportArgs) -> Result<String, CliErro
     }
 }
 
-/// CSV: a "# ..." line with the stamp, a header row, then one row per transition and knot.
+/// CSV, plain (a header row, no comment lines): one row per transition and knot, flags as
+/// named true/false columns, and the dataset stamp in the last columns of every row so any
+/// row on its own says where it came from.
 pub(crate) fn as_csv(tables: &LocalTables) -> Result<String, CliError> {
     let s = tables.stamp();
     let g = tables.grid();
-    let mut out = format!(
-        "# ratewell tables: dataset={} version={} content_hash={} species={} grid_t_min_k={} grid_t_max_k={} knots={}\n",
-        s.id,
-        s.version,
-        s.content_hash,
-        tables.species(),
-        g.t_min_k(),
-        g.t_max_k(),
-        g.knots()
-    );
+    let mut out = String::new();
     let mut w = csv::Writer::from_writer(Vec::new());
     let csv_err = |e: csv::Error| CliError::Io {
         path: "CSV output".into(),
         message: e.to_string(),
     };
     w.write_record([
+        "species",
         "upper",
         "lower",
         "temperature_k",
         "upsilon",
         "q_ul_cm3_s",
         "q_lu_cm3_s",
-        "flags",
         "approximate",
+        "beyond_source",
+        "outside_grid",
         "max_interpolation_error",
+        "dataset",
+        "version",
+        "content_hash",
+        "tables_digest",
     ])
     .map_err(csv_err)?;
+    let flag = |v: u32, bit: u32| (v & bit != 0).to_string();
     for t in tables.tables() {
         let h = t.header();
         for i in 0..g.knots() {
@@ -76,15 +76,21 @@ pub(crate) fn as_csv(tables: &LocalTables) -> Result<String, CliError> {
                 .evaluate(t_k, OutsidePolicy::Refuse)
                 .map_err(ClientError::from)?;
             w.write_record([
+                tables.species().to_string(),
                 h.upper.to_string(),
                 h.lower.to_string(),
                 format!("{t_k:e}"),
                 format!("{:e}", v.upsilon),
                 format!("{:e}", v.deexcitation_cm3_s),
                 format!("{:e}", v.excitation_cm3_s),
-                v.flags.to_string(),
-                h.approximate.to_string(),
+                flag(v.flags, flags::APPROXIMATE),
+                flag(v.flags, flags::BEYOND_SOURCE),
+                flag(v.flags, flags::OUTSIDE_GRID),
                 format!("{:e}", t.max_interpolation_error()),
+                s.id.clone(),
+                s.version.clone(),
+                s.content_hash.clone(),
+                s.tables_digest.clone(),
             ])
             .map_err(csv_err)?;
         }
@@ -178,25 +184,29 @@ mod tests {
     fn csv_has_the_stamp_line_and_the_rate_formula_values() {
         let text = as_csv(&tables()).unwrap();
         let mut lines = text.lines();
-        let first = lines.next().unwrap();
-        assert!(first.starts_with("# ratewell tables: dataset=demo version=1.0.0 content_hash=ffff"));
         assert_eq!(
             lines.next().unwrap(),
-            "upper,lower,temperature_k,upsilon,q_ul_cm3_s,q_lu_cm3_s,flags,approximate,max_interpolation_error"
+            "species,upper,lower,temperature_k,upsilon,q_ul_cm3_s,q_lu_cm3_s,approximate,\
+             beyond_source,outside_grid,max_interpolation_error,dataset,version,content_hash,tables_digest"
         );
         let rows: Vec<Vec<String>> = lines
             .map(|l| l.split(',').map(str::to_string).collect())
             .collect();
         assert_eq!(rows.len(), 4);
+        assert!(
+            rows.iter()
+                .all(|r| r.len() == 15 && r[11] == "demo" && r[13].starts_with("ffff"))
+        );
+        assert!(rows.iter().all(|r| ["true", "false"].contains(&r[7].as_str())));
         // Row at 1e4 K: q_ul = 8.629e-6 Upsilon / (g_u sqrt T) (Osterbrock & Ferland 2006,
         // eq. 3.20); the printed constant has 4 digits, so 1e-4 relative.
-        let t: f64 = rows[1][2].parse().unwrap();
+        let t: f64 = rows[1][3].parse().unwrap();
         assert_eq!(t, 1e4);
-        let q_ul: f64 = rows[1][4].parse().unwrap();
+        let q_ul: f64 = rows[1][5].parse().unwrap();
         let expected = 8.629e-6 / (3.0 * 1e4f64.sqrt());
         assert!((q_ul / expected - 1.0).abs() < 1e-4, "{q_ul} vs {expected}");
         // q_lu = (g_u/g_l) q_ul exp(-dE/kT) (detailed balance, same source, eq. 3.21).
-        let q_lu: f64 = rows[1][5].parse().unwrap();
+        let q_lu: f64 = rows[1][6].parse().unwrap();
         assert!((q_lu / (3.0 * q_ul * (-1.0f64).exp()) - 1.0).abs() < 1e-12);
     }
 
