@@ -158,13 +158,30 @@ impl ClientError {
         }
     }
 
-    /// The process exit code that programs built on this library use for this error (the
-    /// `ratewell` tool and the deploy demo): 2 for a bad argument or unknown transition, 3 for
-    /// a dataset hash, pin or stamp mismatch, 1 for everything else (server, connection,
-    /// timeout, table file).
-    pub fn exit_code(&self) -> u8 {
+    /// Whether a temperature outside the table grid was refused (locally or by the server):
+    /// allowing extrapolation would answer it.
+    pub fn is_outside_grid(&self) -> bool {
         match self {
-            ClientError::InvalidArgument { .. } | ClientError::UnknownTransition { .. } => 2,
+            ClientError::Rule(RuleError::OutsideGrid { .. }) => true,
+            ClientError::Status { code, message, .. } => {
+                *code == tonic::Code::OutOfRange && message.contains("extrapolation")
+            }
+            _ => false,
+        }
+    }
+
+    /// The process exit code that programs built on this library use for this error (the
+    /// `ratewell` tool and the deploy demo): 2 for a bad argument (a temperature outside the
+    /// grid or not positive included) or unknown transition, 3 for a dataset hash, pin or stamp
+    /// mismatch, 1 for everything else (server, connection, timeout, table file).
+    pub fn exit_code(&self) -> u8 {
+        if self.is_outside_grid() {
+            return 2;
+        }
+        match self {
+            ClientError::InvalidArgument { .. }
+            | ClientError::UnknownTransition { .. }
+            | ClientError::Rule(RuleError::TemperatureNotPositive { .. } | RuleError::BadGrid { .. }) => 2,
             ClientError::HashMismatch { .. }
             | ClientError::TablesDigestMismatch { .. }
             | ClientError::PinRefused { .. }

@@ -34,6 +34,17 @@ impl CliError {
         }
     }
 
+    /// What the user can do about this error, when the tool knows.
+    pub(crate) fn hint(&self) -> Option<&'static str> {
+        match self {
+            CliError::Client(e) if e.is_outside_grid() => Some(
+                "add --extrapolate to evaluate outside the grid (such values are flagged G and \
+                 rest on a continuation rule, not on data: treat them with care)",
+            ),
+            _ => None,
+        }
+    }
+
     /// A usage error for one argument: "--name: message".
     pub(crate) fn argument(name: &str, e: impl std::fmt::Display) -> Self {
         CliError::Usage(format!("{name}: {e}"))
@@ -58,6 +69,16 @@ mod tests {
             after: std::time::Duration::from_secs(1),
         };
         assert_eq!(CliError::from(t).exit_code(), 1);
+        // A temperature outside the grid is a usage mistake, with a hint to allow it.
+        let outside = CliError::from(ClientError::Rule(ratewell_proto::rule::RuleError::OutsideGrid {
+            index: 0,
+            value_k: 1e12,
+            min_k: 10.0,
+            max_k: 1e9,
+        }));
+        assert_eq!(outside.exit_code(), 2);
+        assert!(outside.hint().is_some_and(|h| h.contains("--extrapolate")));
+        assert!(CliError::Usage("x".into()).hint().is_none());
         assert_eq!(
             CliError::argument("--temperatures", "temperatures[1] = -3 K: must be finite and > 0")
                 .to_string(),

@@ -35,6 +35,9 @@ fn main() -> ExitCode {
         }
         Err(e) => {
             eprintln!("error: {e}");
+            if let Some(hint) = e.hint() {
+                eprintln!("hint: {hint}");
+            }
             ExitCode::from(e.exit_code())
         }
     }
