@@ -105,10 +105,18 @@ fn bad_arguments_exit_2_naming_argument_value_and_range() {
     let out = ratewell(&server.url(), &["rates", "X", "--temperatures", "5e7"]);
     assert_eq!(out.status.code(), Some(2));
     assert!(text(&out.stderr).contains("OutOfRange"), "{}", text(&out.stderr));
-    assert!(text(&out.stderr).contains("hint: add --extrapolate"), "{}", text(&out.stderr));
+    assert!(
+        text(&out.stderr).contains("hint: add --extrapolate"),
+        "{}",
+        text(&out.stderr)
+    );
     let out = ratewell(&server.url(), &["rates", "X", "--temperatures", "5e7", "--local"]);
     assert_eq!(out.status.code(), Some(2));
-    assert!(text(&out.stderr).contains("hint: add --extrapolate"), "{}", text(&out.stderr));
+    assert!(
+        text(&out.stderr).contains("hint: add --extrapolate"),
+        "{}",
+        text(&out.stderr)
+    );
     // Credentials and TLS settings are checked before anything is sent.
     let out = ratewell(&server.url(), &["--token-file", "/nonexistent/token", "datasets"]);
     assert_eq!(out.status.code(), Some(2));

@@ -39,7 +39,15 @@ pub fn to_status(error: &EngineError) -> Status {
             }
             Status::with_error_details(Code::InvalidArgument, message, details)
         }
-        EngineError::OutOfRange(_) => Status::out_of_range(message),
+        EngineError::OutsideGrid { index, .. } => {
+            let mut details = ErrorDetails::new();
+            details.add_bad_request_violation(
+                format!("temperatures[{index}]"),
+                "outside the table grid: set outside_grid = OUTSIDE_GRID_EXTRAPOLATE (values flagged OUTSIDE_GRID) or ask for a wider grid",
+            );
+            Status::with_error_details(Code::OutOfRange, message, details)
+        }
+        EngineError::SpeciesData { .. } => Status::failed_precondition(message),
         EngineError::Degenerate { .. } => Status::out_of_range(message),
         EngineError::TooLarge(limit) => {
             // No retry hint: the same request would be refused again (unlike load shedding).
@@ -208,5 +216,49 @@ mod tests {
         let listed = status.get_details_bad_request().unwrap().field_violations;
         assert_eq!(listed.len(), super::super::bounded::MAX_VIOLATIONS + 1);
         assert!(listed.last().unwrap().description.contains("more bad values"));
+    }
+
+    #[test]
+    fn a_temperature_outside_the_grid_keeps_its_index_value_and_range() {
+        // OUT_OF_RANGE: the request must change (gRPC status code guide; common practice).
+        let status = to_status(&EngineError::OutsideGrid {
+            index: 3,
+            value_k: 2e9,
+            min_k: 10.0,
+            max_k: 1e9,
+        });
+        assert_eq!(status.code(), Code::OutOfRange);
+        assert_eq!(
+            status.message(),
+            "temperatures[3] = 2000000000 K: outside the table grid [10, 1000000000] K and extrapolation was not allowed"
+        );
+        let violations = status.get_details_bad_request().unwrap().field_violations;
+        assert_eq!(violations[0].field, "temperatures[3]");
+        assert!(violations[0].description.contains("OUTSIDE_GRID_EXTRAPOLATE"));
+        // ...and the typed error comes from the rule's own.
+        let from_rule = EngineError::from_location(RuleError::OutsideGrid {
+            index: 3,
+            value_k: 2e9,
+            min_k: 10.0,
+            max_k: 1e9,
+        });
+        assert_eq!(to_status(&from_rule).message(), status.message());
+    }
+
+    #[test]
+    fn species_data_that_make_no_rates_are_a_precondition_not_a_bug() {
+        let status = to_status(&EngineError::SpeciesData {
+            species: "X".into(),
+            source: PhysicsError::NonFinite {
+                quantity: "radiative rate",
+                detail: "radiative[0].a_s = inf".into(),
+            },
+        });
+        assert_eq!(status.code(), Code::FailedPrecondition);
+        assert!(
+            status
+                .message()
+                .starts_with("dataset load failed, previous data keep serving: species X: ")
+        );
     }
 }

@@ -166,10 +166,7 @@ impl Engine {
             .enumerate()
             .map(|(j, &t)| checked_location(&tables.grid, j, t, query.outside))
             .collect::<Result<Vec<_>, RuleError>>()
-            .map_err(|e| match e {
-                RuleError::OutsideGrid { .. } => EngineError::OutOfRange(e.to_string()),
-                other => EngineError::Rule(other),
-            })?;
+            .map_err(EngineError::from_location)?;
         let dir = query.direction;
         let sized = |wanted: bool| if wanted { vec![0.0; total] } else { Vec::new() };
         let mut excitation = sized(dir.wants_excitation());

@@ -170,7 +170,11 @@ impl Engine {
                 species.name.clone(),
                 Arc::new(build_species_tables(species, grid)?),
             );
-            solve_inputs.insert(species.name.clone(), Arc::new(solve_inputs_for(species)?));
+            let inputs = solve_inputs_for(species).map_err(|source| EngineError::SpeciesData {
+                species: species.name.clone(),
+                source,
+            })?;
+            solve_inputs.insert(species.name.clone(), Arc::new(inputs));
         }
         let precompute_seconds = started.elapsed().as_secs_f64();
         let stamp = Stamp {

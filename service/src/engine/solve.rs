@@ -13,7 +13,7 @@ use crate::physics::emission::{
 use crate::physics::populations::{CollisionalRate, PopulationWorkspace};
 use crate::tables::SpeciesTables;
 use ratewell_proto::rule::{
-    Direction, Location, OutsidePolicy, RateOutputs, RuleError, checked_location, write_tables_at,
+    Direction, Location, OutsidePolicy, RateOutputs, checked_location, write_tables_at,
 };
 use rayon::prelude::*;
 use std::sync::Arc;
@@ -245,10 +245,7 @@ impl Engine {
         self.admit_solve(query, n_points, inputs)?;
         let tables = self.species_tables_cancellable(&loaded, &query.species, query.grid, cancel)?;
         let locate = |j: usize, t: f64| {
-            checked_location(&tables.grid, j, t, query.outside).map_err(|e| match e {
-                RuleError::OutsideGrid { .. } => EngineError::OutOfRange(e.to_string()),
-                other => EngineError::Rule(other),
-            })
+            checked_location(&tables.grid, j, t, query.outside).map_err(EngineError::from_location)
         };
         let work: Vec<TemperatureWork> = match query.layout {
             PointLayout::Pairs => temps_k
