@@ -56,12 +56,13 @@ impl SpeciesTables {
             .fold(0.0, f64::max)
     }
 
-    /// Approximate heap bytes held by the tables (knots, slopes and cubic coefficients).
+    /// Approximate heap bytes held by the tables (knots and slopes; the cubic coefficients are
+    /// made where they are used, not stored).
     pub fn table_bytes(&self) -> usize {
-        // Per knot: ln Upsilon + slope (2 f64); per interval: 4 coefficients.
+        // Per knot: ln Upsilon + slope (2 f64).
         self.tables
             .iter()
-            .map(|t| t.grid().knots() * 16 + (t.grid().knots() - 1) * 32 + std::mem::size_of::<RateTable>())
+            .map(|t| t.knot_pairs().len() * 16 + std::mem::size_of::<RateTable>())
             .sum()
     }
 }
