@@ -1,5 +1,8 @@
 //! Approximate collision strengths: Van Regemorter and the semi-classical estimate.
 
+mod common;
+use common::closed_form_q_lu;
+
 use ratewell_service::physics::approximations::{
     ApproximationMethod, SemiClassicalEstimate, TargetCharge, hydrogenic_mean_radius_bohr,
     van_regemorter_gaunt_factor, van_regemorter_upsilon,
@@ -8,7 +11,6 @@ use ratewell_service::physics::constants::{
     ELECTRON_MASS_KG, ELEMENTARY_CHARGE_C, FINE_STRUCTURE, PLANCK_J_S, SPEED_OF_LIGHT_M_S,
 };
 use ratewell_service::physics::maxwell::{BelowFirstPoint, CollisionStrengthTable};
-use ratewell_service::physics::rates::excitation_rate_cm3_s;
 use ratewell_service::physics::transition::TransitionType;
 use ratewell_service::physics::units;
 use serde_json::Value;
@@ -81,7 +83,7 @@ fn rate_form_has_van_regemorters_coefficient() {
     let (g_l, g_u, f, de_ry, t) = (2.0, 6.0, 0.3, 0.75, 1.2e4);
     let ups = van_regemorter_upsilon(g_l * f, de_ry, t, TargetCharge::PositiveIon).unwrap();
     let de_k = units::ry_to_k(de_ry);
-    let q_lu = excitation_rate_cm3_s(ups.value, g_l, g_u, de_k, t).unwrap();
+    let q_lu = closed_form_q_lu(ups.value, g_l, g_u, de_k, t);
     let y = de_k / t;
     let p = van_regemorter_gaunt_factor(y, TargetCharge::PositiveIon);
     let form = 3.16e-7 * f * de_ry.powf(-1.5) * y.sqrt() * (-y).exp() * p;

@@ -1,11 +1,13 @@
 //! Statistical equilibrium: closed forms, limits, mpmath reference, and a wide sweep.
 
+mod common;
+use common::{closed_form_q_lu, closed_form_q_ul};
+
 use ratewell_service::physics::emission::critical_densities_cm3;
 use ratewell_service::physics::populations::{
     BLOCKED_LU_MIN_LEVELS, CollisionalRate, Factorisation, PopulationWorkspace, RadiativeRate,
     solve_populations,
 };
-use ratewell_service::physics::rates::{deexcitation_rate_cm3_s, excitation_rate_cm3_s};
 use rayon::prelude::*;
 use serde_json::Value;
 
@@ -16,8 +18,8 @@ fn rel(a: f64, b: f64) -> f64 {
 /// A two-level atom (invented numbers of forbidden-line size) at T = 1e4 K.
 fn two_level() -> (f64, f64, f64, f64, f64, f64) {
     let (g1, g2, de_k, t, ups, a21) = (4.0, 6.0, 2.6e4, 1.0e4, 1.7, 3.5e-2);
-    let q21 = deexcitation_rate_cm3_s(ups, g2, t).unwrap();
-    let q12 = excitation_rate_cm3_s(ups, g1, g2, de_k, t).unwrap();
+    let q21 = closed_form_q_ul(ups, g2, t);
+    let q12 = closed_form_q_lu(ups, g1, g2, de_k, t);
     (g1, g2, (-de_k / t).exp(), q12, q21, a21)
 }
 
@@ -172,8 +174,8 @@ fn low_density_limit_is_coronal() {
         coll.push(CollisionalRate {
             upper: j,
             lower: 0,
-            excitation_cm3_s: excitation_rate_cm3_s(ups[j], g[0], g[j], de_k[j], t).unwrap(),
-            deexcitation_cm3_s: deexcitation_rate_cm3_s(ups[j], g[j], t).unwrap(),
+            excitation_cm3_s: closed_form_q_lu(ups[j], g[0], g[j], de_k[j], t),
+            deexcitation_cm3_s: closed_form_q_ul(ups[j], g[j], t),
         });
     }
     let ne = 1.0;
@@ -218,8 +220,8 @@ fn synthetic_system(n: usize, t: f64) -> (Vec<RadiativeRate>, Vec<CollisionalRat
             coll.push(CollisionalRate {
                 upper: u,
                 lower: l,
-                excitation_cm3_s: excitation_rate_cm3_s(ups, g[l], g[u], de, t).unwrap(),
-                deexcitation_cm3_s: deexcitation_rate_cm3_s(ups, g[u], t).unwrap(),
+                excitation_cm3_s: closed_form_q_lu(ups, g[l], g[u], de, t),
+                deexcitation_cm3_s: closed_form_q_ul(ups, g[u], t),
             });
         }
     }

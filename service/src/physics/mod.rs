@@ -1,11 +1,11 @@
-//! Pure atomic physics: unit conversions, rate coefficients, Maxwellian averaging of collision
-//! strengths, Burgess & Tully scaling, approximate collision strengths, statistical equilibrium
-//! and line emission. Plain numbers and slices in, plain numbers out: no I/O, no async, no wire
-//! or dataset types, and no dependency on any other module of this crate.
+//! Pure atomic physics: unit conversions, Maxwellian averaging of collision strengths, Burgess
+//! & Tully scaling, approximate collision strengths, statistical equilibrium and line emission
+//! (rate coefficients themselves are the evaluation rule's, in the contract crate). Plain
+//! numbers and slices in, plain numbers out: no I/O, no async, no wire or dataset types, and no
+//! dependency on any other module of this crate.
 //!
 //! - [`constants`]: CODATA 2018 constants (re-exported from the contract crate).
 //! - [`units`]: conversions between K, eV, J, cm^-1, Rydberg, cm^-3, m^-3 and wavelengths.
-//! - [`rates`]: rate coefficients from effective collision strengths (detailed balance).
 //! - [`elementary`]: e^x, ln x, e^x - 1, ln(1 + x), 10^x with the same bits on every platform.
 //! - [`expint`]: exponential integrals E_n(x) and their scaled forms e^x E_n(x).
 //! - [`maxwell`]: exact Maxwellian average of piecewise-linear collision strengths.
@@ -27,7 +27,6 @@ pub mod expint;
 pub mod maxwell;
 pub mod pchip;
 pub mod populations;
-pub mod rates;
 pub mod scaling;
 pub mod transition;
 pub mod units;

@@ -4,7 +4,20 @@
 
 use ratewell_service::dataset::units::cm1_to_ry;
 use ratewell_service::dataset::{Dataset, load_dataset_from_texts};
-use ratewell_service::physics::constants::KELVIN_PER_RYDBERG;
+use ratewell_service::physics::constants::{KELVIN_PER_RYDBERG, rate_prefactor_cm3_s_k_half};
+
+/// De-excitation rate coefficient in closed form, cm^3 s^-1: q_ul = C Upsilon / (g_u T^1/2)
+/// (Osterbrock & Ferland 2006, eq. 3.20; C from CODATA 2018). The served path computes it with
+/// the evaluation rule; tests build their own inputs and references with this.
+pub fn closed_form_q_ul(upsilon: f64, g_upper: f64, t_k: f64) -> f64 {
+    rate_prefactor_cm3_s_k_half() * upsilon / (g_upper * t_k.sqrt())
+}
+
+/// Excitation rate coefficient by detailed balance, cm^3 s^-1:
+/// q_lu = (g_u / g_l) q_ul exp(-dE/kT) (Osterbrock & Ferland 2006, eq. 3.21).
+pub fn closed_form_q_lu(upsilon: f64, g_lower: f64, g_upper: f64, delta_e_k: f64, t_k: f64) -> f64 {
+    (g_upper / g_lower) * closed_form_q_ul(upsilon, g_upper, t_k) * (-delta_e_k / t_k).exp()
+}
 
 /// The transition types in their file spelling.
 pub const TYPES: [&str; 4] = ["allowed", "forbidden", "spin-change", "weak-allowed"];
