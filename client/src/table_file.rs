@@ -124,19 +124,15 @@ fn fill(reader: &mut dyn Read, buf: &mut [u8]) -> std::io::Result<usize> {
 
 /// Refuses a file with bytes after its announced end.
 fn expect_end(path: &Path, reader: &mut dyn Read) -> Result<(), ClientError> {
-    let mut rest = Vec::new();
-    reader
-        .read_to_end(&mut rest)
+    // Counted, not kept: a damaged file may carry any amount after its end.
+    let rest = std::io::copy(reader, &mut std::io::sink())
         .map_err(|e| file_error(path, format!("cannot read: {e}")))?;
-    if rest.is_empty() {
+    if rest == 0 {
         Ok(())
     } else {
         Err(file_error(
             path,
-            format!(
-                "{} bytes after the end the header announces: the file is damaged",
-                rest.len()
-            ),
+            format!("{rest} bytes after the end the header announces: the file is damaged"),
         ))
     }
 }

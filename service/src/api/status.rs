@@ -39,14 +39,6 @@ pub fn to_status(error: &EngineError) -> Status {
             }
             Status::with_error_details(Code::InvalidArgument, message, details)
         }
-        EngineError::OutsideGrid { index, .. } => {
-            let mut details = ErrorDetails::new();
-            details.add_bad_request_violation(
-                format!("temperatures[{index}]"),
-                "outside the table grid: set outside_grid = OUTSIDE_GRID_EXTRAPOLATE (values flagged OUTSIDE_GRID) or ask for a wider grid",
-            );
-            Status::with_error_details(Code::OutOfRange, message, details)
-        }
         EngineError::SpeciesData { .. } => Status::failed_precondition(message),
         EngineError::Degenerate { .. } => Status::out_of_range(message),
         EngineError::TooLarge(limit) => {
@@ -135,7 +127,15 @@ fn rule_status(error: &RuleError, message: String) -> Status {
         RuleError::TemperatureNotPositive { .. } | RuleError::BadGrid { .. } => {
             Status::invalid_argument(message)
         }
-        RuleError::OutsideGrid { .. } => Status::out_of_range(message),
+        RuleError::OutsideGrid { index, .. } => {
+            // The typed error keeps the temperature's position: name it as the bad field.
+            let mut details = ErrorDetails::new();
+            details.add_bad_request_violation(
+                format!("temperatures[{index}]"),
+                "outside the table grid: set outside_grid = OUTSIDE_GRID_EXTRAPOLATE (values flagged OUTSIDE_GRID) or ask for a wider grid",
+            );
+            Status::with_error_details(Code::OutOfRange, message, details)
+        }
         RuleError::BadTable { .. } | RuleError::BufferLength { .. } => Status::internal(message),
     }
 }
@@ -221,12 +221,12 @@ mod tests {
     #[test]
     fn a_temperature_outside_the_grid_keeps_its_index_value_and_range() {
         // OUT_OF_RANGE: the request must change (gRPC status code guide; common practice).
-        let status = to_status(&EngineError::OutsideGrid {
+        let status = to_status(&EngineError::Rule(RuleError::OutsideGrid {
             index: 3,
             value_k: 2e9,
             min_k: 10.0,
             max_k: 1e9,
-        });
+        }));
         assert_eq!(status.code(), Code::OutOfRange);
         assert_eq!(
             status.message(),
@@ -235,14 +235,6 @@ mod tests {
         let violations = status.get_details_bad_request().unwrap().field_violations;
         assert_eq!(violations[0].field, "temperatures[3]");
         assert!(violations[0].description.contains("OUTSIDE_GRID_EXTRAPOLATE"));
-        // ...and the typed error comes from the rule's own.
-        let from_rule = EngineError::from_location(RuleError::OutsideGrid {
-            index: 3,
-            value_k: 2e9,
-            min_k: 10.0,
-            max_k: 1e9,
-        });
-        assert_eq!(to_status(&from_rule).message(), status.message());
     }
 
     #[test]

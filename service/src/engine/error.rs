@@ -27,20 +27,6 @@ pub enum EngineError {
         /// How many elements are bad in all.
         total: usize,
     },
-    /// A temperature outside the table grid while extrapolation was not allowed.
-    #[error(
-        "temperatures[{index}] = {value_k} K: outside the table grid [{min_k}, {max_k}] K and extrapolation was not allowed"
-    )]
-    OutsideGrid {
-        /// Position in the request.
-        index: usize,
-        /// Offending value, K.
-        value_k: f64,
-        /// Lowest grid temperature, K.
-        min_k: f64,
-        /// Highest grid temperature, K.
-        max_k: f64,
-    },
     /// The balance equations have no usable solution at one requested point: the inputs are
     /// outside the range where the solve is well conditioned.
     #[error(
@@ -134,27 +120,6 @@ pub enum EngineError {
         /// What the physics refused.
         source: PhysicsError,
     },
-}
-
-impl EngineError {
-    /// A temperature the grid refused, typed: outside the grid keeps its index, value and
-    /// range; any other refusal stays the rule's.
-    pub fn from_location(error: RuleError) -> Self {
-        match error {
-            RuleError::OutsideGrid {
-                index,
-                value_k,
-                min_k,
-                max_k,
-            } => EngineError::OutsideGrid {
-                index,
-                value_k,
-                min_k,
-                max_k,
-            },
-            other => EngineError::Rule(other),
-        }
-    }
 }
 
 /// Bad elements of a batch kept with their description; the rest are only counted.

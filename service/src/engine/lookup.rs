@@ -166,7 +166,7 @@ impl Engine {
             .enumerate()
             .map(|(j, &t)| checked_location(&tables.grid, j, t, query.outside))
             .collect::<Result<Vec<_>, RuleError>>()
-            .map_err(EngineError::from_location)?;
+            .map_err(EngineError::Rule)?;
         let dir = query.direction;
         let sized = |wanted: bool| if wanted { vec![0.0; total] } else { Vec::new() };
         let mut excitation = sized(dir.wants_excitation());

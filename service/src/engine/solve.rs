@@ -244,9 +244,8 @@ impl Engine {
         };
         self.admit_solve(query, n_points, inputs)?;
         let tables = self.species_tables_cancellable(&loaded, &query.species, query.grid, cancel)?;
-        let locate = |j: usize, t: f64| {
-            checked_location(&tables.grid, j, t, query.outside).map_err(EngineError::from_location)
-        };
+        let locate =
+            |j: usize, t: f64| checked_location(&tables.grid, j, t, query.outside).map_err(EngineError::Rule);
         let work: Vec<TemperatureWork> = match query.layout {
             PointLayout::Pairs => temps_k
                 .iter()
